@@ -1,0 +1,2 @@
+export * from './decimal';
+export * from './errors';
