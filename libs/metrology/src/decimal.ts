@@ -1,5 +1,7 @@
 import DecimalJs from 'decimal.js';
 
+import { MetrologyInputError } from './errors';
+
 /**
  * The one Decimal constructor of the computation library: 34 significant digits
  * (IEEE 754 decimal128), round half to even. Every quantity is one of these.
@@ -21,5 +23,3 @@ export function dec(value: DecimalInput, field = 'value'): Decimal {
   if (!d.isFinite()) throw new MetrologyInputError(field, 'must be a finite number');
   return d;
 }
-
-import { MetrologyInputError } from './errors';
