@@ -1,0 +1,2 @@
+export * from './embedded/embedded-postgres';
+export * from './embedded/free-port';
