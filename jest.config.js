@@ -21,5 +21,8 @@ module.exports = {
     '^@registry/data$': '<rootDir>/libs/data/src/index.ts',
   },
   testMatch: ['<rootDir>/libs/**/*.spec.ts', '<rootDir>/apps/**/*.spec.ts', '<rootDir>/tests/**/*.spec.ts'],
+  globalSetup: '<rootDir>/tests/setup/global-setup.ts',
+  globalTeardown: '<rootDir>/tests/setup/global-teardown.ts',
+  testTimeout: 30000,
   testPathIgnorePatterns: ['/node_modules/', '/dist/', '/.data/'],
 };

@@ -1,0 +1,70 @@
+import { join } from 'node:path';
+
+import { type EmbeddedServer, startEmbeddedPostgres } from './embedded/embedded-postgres';
+import { migrate, type MigrationReport } from './migrations/migration-runner';
+
+export interface DatabaseServerOptions {
+  /** An external server; when absent an embedded one is started in `dataDir`. */
+  readonly url?: string;
+  readonly dataDir: string;
+  readonly embeddedPort?: number;
+  readonly database?: string;
+  readonly log?: (message: string) => void;
+}
+
+/** A migrated database, embedded or external, ready for the service. */
+export interface DatabaseServer {
+  readonly url: string;
+  readonly embedded: EmbeddedServer | null;
+  /** Where the data lives, for the start-up log (never the password). */
+  readonly description: string;
+  readonly migrations: MigrationReport;
+  stop(): Promise<void>;
+}
+
+/** The folder of SQL migrations, found from the repository root (works from src and dist). */
+export function migrationsDir(fromDir: string = __dirname): string {
+  const marker = `${join('libs', 'data')}`;
+  const index = fromDir.lastIndexOf(marker);
+  const root = index >= 0 ? fromDir.slice(0, index).replace(/[\\/]dist[\\/]?$/, '') : process.cwd();
+  return join(root, 'prisma', 'migrations');
+}
+
+export async function openDatabaseServer(options: DatabaseServerOptions): Promise<DatabaseServer> {
+  const log = options.log ?? (() => undefined);
+  let embedded: EmbeddedServer | null = null;
+  let url = options.url;
+  if (!url) {
+    embedded = await startEmbeddedPostgres({
+      dataDir: options.dataDir,
+      database: options.database ?? 'registry',
+      ...(options.embeddedPort !== undefined ? { port: options.embeddedPort } : {}),
+      log,
+    });
+    url = embedded.url;
+  }
+  try {
+    const migrations = await migrate(url, migrationsDir(), log);
+    return {
+      url,
+      embedded,
+      description: embedded ? `embedded PostgreSQL in ${embedded.clusterDir} (127.0.0.1:${embedded.port})` : `external PostgreSQL at ${redact(url)}`,
+      migrations,
+      stop: async () => embedded?.stop(),
+    };
+  } catch (err) {
+    await embedded?.stop();
+    throw err;
+  }
+}
+
+/** The URL without its password, for logs. */
+export function redact(url: string): string {
+  try {
+    const u = new URL(url);
+    if (u.password) u.password = '***';
+    return u.toString();
+  } catch {
+    return '(unparseable URL)';
+  }
+}
