@@ -12,7 +12,9 @@ async function main(): Promise<void> {
     log: (m) => console.log(m),
   });
   const { applied, alreadyApplied } = server.migrations;
-  console.log(`${applied.length} migration(s) applied, ${alreadyApplied} already in place — ${server.embedded ? server.description : redact(server.url)}`);
+  console.log(
+    `${applied.length} migration(s) applied, ${alreadyApplied} already in place — ${server.embedded ? server.description : redact(server.url)}`,
+  );
   await server.stop();
 }
 

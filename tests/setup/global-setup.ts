@@ -59,7 +59,9 @@ async function removeStaleFolders(): Promise<void> {
   for (const name of await readdir(tmpdir())) {
     if (!name.startsWith(PREFIX)) continue;
     const dir = join(tmpdir(), name);
-    const pidText = await import('node:fs/promises').then((fs) => fs.readFile(join(dir, 'cluster', 'postmaster.pid'), 'utf8')).catch(() => '');
+    const pidText = await import('node:fs/promises')
+      .then((fs) => fs.readFile(join(dir, 'cluster', 'postmaster.pid'), 'utf8'))
+      .catch(() => '');
     const pid = Number.parseInt(pidText.split('\n')[0] ?? '', 10);
     const age = Date.now() - (await stat(dir)).mtimeMs;
     if ((pid > 0 && isAlive(pid)) || (!pid && age < 60 * 60_000)) continue;

@@ -4,14 +4,7 @@ import pino, { type Logger } from 'pino';
 import type { AppConfig } from './config/config.schema';
 
 /** Never let a secret reach a log line, whatever object is logged. */
-const REDACT = [
-  'req.headers.authorization',
-  'req.headers.cookie',
-  '*.password',
-  '*.token',
-  '*.secret',
-  '*.apiKey',
-];
+const REDACT = ['req.headers.authorization', 'req.headers.cookie', '*.password', '*.token', '*.secret', '*.apiKey'];
 
 /** Structured JSON logs; Fastify adds the request id to every request line. */
 export function createLogger(config: Pick<AppConfig, 'logLevel'>, destination?: pino.DestinationStream): Logger {

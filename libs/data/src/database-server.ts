@@ -48,7 +48,9 @@ export async function openDatabaseServer(options: DatabaseServerOptions): Promis
     return {
       url,
       embedded,
-      description: embedded ? `embedded PostgreSQL in ${embedded.clusterDir} (127.0.0.1:${embedded.port})` : `external PostgreSQL at ${redact(url)}`,
+      description: embedded
+        ? `embedded PostgreSQL in ${embedded.clusterDir} (127.0.0.1:${embedded.port})`
+        : `external PostgreSQL at ${redact(url)}`,
       migrations,
       stop: async () => embedded?.stop(),
     };

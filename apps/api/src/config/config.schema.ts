@@ -26,7 +26,12 @@ export const configSchema = z.object({
     .string()
     .trim()
     .default('')
-    .transform((v) => v.split(',').map((s) => s.trim()).filter(Boolean))
+    .transform((v) =>
+      v
+        .split(',')
+        .map((s) => s.trim())
+        .filter(Boolean),
+    )
     .pipe(z.array(z.url({ message: 'must be a comma-separated list of origins (https://host[:port])' }))),
   TRUST_PROXY: z
     .enum(['true', 'false'])
@@ -40,8 +45,20 @@ type Env = z.output<typeof configSchema>;
 /** Typed configuration the rest of the code receives (never `process.env`). */
 export interface AppConfig {
   readonly env: Env['NODE_ENV'];
-  readonly http: { readonly port: number; readonly host: string; readonly bodyLimitBytes: number; readonly corsOrigins: string[]; readonly trustProxy: boolean };
-  readonly database: { readonly url?: string; readonly dataDir: string; readonly embeddedPort: number; readonly poolMax: number; readonly connectTimeoutMs: number };
+  readonly http: {
+    readonly port: number;
+    readonly host: string;
+    readonly bodyLimitBytes: number;
+    readonly corsOrigins: string[];
+    readonly trustProxy: boolean;
+  };
+  readonly database: {
+    readonly url?: string;
+    readonly dataDir: string;
+    readonly embeddedPort: number;
+    readonly poolMax: number;
+    readonly connectTimeoutMs: number;
+  };
   readonly logLevel: Env['LOG_LEVEL'];
   readonly shutdownGraceMs: number;
 }

@@ -24,7 +24,13 @@ export class HealthController {
     try {
       await withTimeout(this.pool.query('SELECT 1'), READY_TIMEOUT_MS);
     } catch {
-      throw new DomainError('service-unavailable', 'The database does not answer.', undefined, { checks: { database: 'down' } }, { 'retry-after': '2' });
+      throw new DomainError(
+        'service-unavailable',
+        'The database does not answer.',
+        undefined,
+        { checks: { database: 'down' } },
+        { 'retry-after': '2' },
+      );
     }
     const ms = Number(process.hrtime.bigint() - started) / 1e6;
     return { status: 'ready', checks: { database: 'up' }, databaseLatencyMs: Math.round(ms * 100) / 100 };

@@ -22,7 +22,14 @@ export class HttpMetrics {
   constructor(pool: Pool) {
     collectDefaultMetrics({ register: this.registry });
     const gauge = (name: string, help: string, read: () => number): void => {
-      new Gauge({ name, help, registers: [this.registry], collect() { this.set(read()); } });
+      new Gauge({
+        name,
+        help,
+        registers: [this.registry],
+        collect() {
+          this.set(read());
+        },
+      });
     };
     gauge('db_pool_connections_total', 'Connections open in the database pool', () => pool.totalCount);
     gauge('db_pool_connections_idle', 'Idle connections in the database pool', () => pool.idleCount);

@@ -115,7 +115,14 @@ async function ensureInitialised(
   try {
     execFileSync(
       binaries.initdb,
-      [`--pgdata=${where.pgdata}`, '--auth=scram-sha-256', `--username=${SUPERUSER}`, `--pwfile=${pwfile}`, '--encoding=UTF8', `--locale=${bestLocale()}`],
+      [
+        `--pgdata=${where.pgdata}`,
+        '--auth=scram-sha-256',
+        `--username=${SUPERUSER}`,
+        `--pwfile=${pwfile}`,
+        '--encoding=UTF8',
+        `--locale=${bestLocale()}`,
+      ],
       { stdio: 'pipe', cwd: where.cwd, ...(account ? { uid: account.uid, gid: account.gid } : {}) },
     );
   } catch (err) {
@@ -132,7 +139,9 @@ async function ensureInitialised(
 
 function bestLocale(): string {
   try {
-    const locales = execFileSync('locale', ['-a'], { encoding: 'utf8' }).split('\n').map((l) => l.trim());
+    const locales = execFileSync('locale', ['-a'], { encoding: 'utf8' })
+      .split('\n')
+      .map((l) => l.trim());
     if (locales.includes('C.UTF-8') || locales.includes('C.utf8')) return 'C.UTF-8';
   } catch {
     // no `locale` program: fall through
@@ -163,7 +172,18 @@ async function recoverLock(dir: string, log: (m: string) => void): Promise<void>
 }
 
 function launch(binaries: PostgresBinaries, where: ClusterPath, port: number, account: ServerAccount | null): Promise<ChildProcess> {
-  const args = ['-D', where.pgdata, '-p', String(port), '-c', 'listen_addresses=127.0.0.1', '-c', 'unix_socket_directories=', '-c', 'max_connections=300'];
+  const args = [
+    '-D',
+    where.pgdata,
+    '-p',
+    String(port),
+    '-c',
+    'listen_addresses=127.0.0.1',
+    '-c',
+    'unix_socket_directories=',
+    '-c',
+    'max_connections=300',
+  ];
   // Own process group: Ctrl-C reaches the service, which drains and then stops the database itself.
   const child = spawn(binaries.postgres, args, {
     stdio: ['ignore', 'ignore', 'pipe'],

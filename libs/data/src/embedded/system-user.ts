@@ -22,11 +22,9 @@ export async function serverAccount(name = 'postgres'): Promise<ServerAccount | 
   if (!isRoot()) return null;
   const found = await lookup(name);
   if (found) return found;
-  await run('useradd', ['--system', '--user-group', '--no-create-home', '--shell', '/usr/sbin/nologin', name]).catch(
-    (err: Error) => {
-      throw new Error(`Running as root, and the system user "${name}" could not be created: ${err.message}`);
-    },
-  );
+  await run('useradd', ['--system', '--user-group', '--no-create-home', '--shell', '/usr/sbin/nologin', name]).catch((err: Error) => {
+    throw new Error(`Running as root, and the system user "${name}" could not be created: ${err.message}`);
+  });
   const created = await lookup(name);
   if (!created) throw new Error(`Running as root, and the system user "${name}" is still missing after useradd.`);
   return created;

@@ -17,7 +17,10 @@ export const checksumOf = (sql: string): string => createHash('sha256').update(s
 /** Reads every migration folder, in name (= timestamp) order. */
 export async function readMigrationFiles(migrationsDir: string): Promise<MigrationFile[]> {
   const entries = await readdir(migrationsDir, { withFileTypes: true });
-  const folders = entries.filter((e) => e.isDirectory()).map((e) => e.name).sort();
+  const folders = entries
+    .filter((e) => e.isDirectory())
+    .map((e) => e.name)
+    .sort();
   const files: MigrationFile[] = [];
   for (const name of folders) {
     if (!FOLDER.test(name)) {

@@ -42,14 +42,19 @@ interface AppliedRow {
  * checksum of the file), and refuses to run if an applied file was edited or a
  * previous attempt failed half-way.
  */
-export async function migrate(databaseUrl: string, migrationsDir: string, log: (m: string) => void = () => undefined): Promise<MigrationReport> {
+export async function migrate(
+  databaseUrl: string,
+  migrationsDir: string,
+  log: (m: string) => void = () => undefined,
+): Promise<MigrationReport> {
   const files = await readMigrationFiles(migrationsDir);
   const client = new Client({ connectionString: databaseUrl });
   await client.connect();
   try {
     await client.query('SELECT pg_advisory_lock($1)', [MIGRATION_LOCK_KEY]);
     await client.query(CREATE_TABLE);
-    const rows = (await client.query<AppliedRow>('SELECT migration_name, checksum, finished_at, rolled_back_at FROM "_prisma_migrations"')).rows;
+    const rows = (await client.query<AppliedRow>('SELECT migration_name, checksum, finished_at, rolled_back_at FROM "_prisma_migrations"'))
+      .rows;
     const applied = checkHistory(files, rows);
     const pending = files.filter((f) => !applied.has(f.name));
     for (const file of pending) {

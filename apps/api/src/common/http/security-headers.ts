@@ -2,7 +2,8 @@ import type { FastifyInstance } from 'fastify';
 
 const API_CSP = "default-src 'none'; frame-ancestors 'none'";
 // The interactive docs load their own scripts and styles from /docs.
-const DOCS_CSP = "default-src 'self'; img-src 'self' data:; style-src 'self' 'unsafe-inline'; script-src 'self' 'unsafe-inline'; frame-ancestors 'none'";
+const DOCS_CSP =
+  "default-src 'self'; img-src 'self' data:; style-src 'self' 'unsafe-inline'; script-src 'self' 'unsafe-inline'; frame-ancestors 'none'";
 
 /** Security headers on every response, and the request id echoed back. */
 export function registerResponseHeaders(fastify: FastifyInstance): void {

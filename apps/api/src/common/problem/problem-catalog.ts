@@ -4,22 +4,54 @@
  * can look up what a code means. Codes are stable: never rename one.
  */
 export const PROBLEM_CATALOG = {
-  'validation-failed': { status: 400, title: 'The request is not valid', description: 'One or more fields are missing or invalid; see `errors` for each field and the reason.' },
+  'validation-failed': {
+    status: 400,
+    title: 'The request is not valid',
+    description: 'One or more fields are missing or invalid; see `errors` for each field and the reason.',
+  },
   'malformed-body': { status: 400, title: 'The request body is not valid JSON', description: 'The body could not be parsed as JSON.' },
-  'unauthenticated': { status: 401, title: 'Sign-in required', description: 'The request carries no valid bearer token or service credential.' },
-  'forbidden': { status: 403, title: 'Not allowed', description: 'The caller is known but may not do this.' },
+  unauthenticated: {
+    status: 401,
+    title: 'Sign-in required',
+    description: 'The request carries no valid bearer token or service credential.',
+  },
+  forbidden: { status: 403, title: 'Not allowed', description: 'The caller is known but may not do this.' },
   'not-found': { status: 404, title: 'Not found', description: 'No such resource, or not visible to the caller.' },
   'route-not-found': { status: 404, title: 'No such route', description: 'No endpoint matches this method and path; see /docs.' },
   'method-not-allowed': { status: 405, title: 'Method not allowed', description: 'The path exists but not for this method.' },
-  'conflict': { status: 409, title: 'Conflict with the current state', description: 'The request conflicts with existing data (for example a duplicate identifier).' },
-  'precondition-failed': { status: 412, title: 'The resource has changed', description: 'The If-Match version is stale; read the resource again and retry.' },
+  conflict: {
+    status: 409,
+    title: 'Conflict with the current state',
+    description: 'The request conflicts with existing data (for example a duplicate identifier).',
+  },
+  'precondition-failed': {
+    status: 412,
+    title: 'The resource has changed',
+    description: 'The If-Match version is stale; read the resource again and retry.',
+  },
   'payload-too-large': { status: 413, title: 'Request body too large', description: 'The body exceeds the configured limit.' },
   'unsupported-media-type': { status: 415, title: 'Unsupported media type', description: 'Send JSON with Content-Type: application/json.' },
-  'unprocessable-quantity': { status: 422, title: 'A quantity is outside what the method allows', description: 'A value is impossible or outside the validity range of the published method; see `errors`.' },
-  'precondition-required': { status: 428, title: 'If-Match required', description: 'Updates need the If-Match header with the version read.' },
+  'unprocessable-quantity': {
+    status: 422,
+    title: 'A quantity is outside what the method allows',
+    description: 'A value is impossible or outside the validity range of the published method; see `errors`.',
+  },
+  'precondition-required': {
+    status: 428,
+    title: 'If-Match required',
+    description: 'Updates need the If-Match header with the version read.',
+  },
   'too-many-requests': { status: 429, title: 'Too many requests', description: 'Slow down and retry after the time given in Retry-After.' },
-  'internal-error': { status: 500, title: 'Internal error', description: 'An unexpected error occurred; quote the request id when reporting it.' },
-  'service-unavailable': { status: 503, title: 'Service temporarily unavailable', description: 'A dependency (usually the database) is unreachable; retry shortly.' },
+  'internal-error': {
+    status: 500,
+    title: 'Internal error',
+    description: 'An unexpected error occurred; quote the request id when reporting it.',
+  },
+  'service-unavailable': {
+    status: 503,
+    title: 'Service temporarily unavailable',
+    description: 'A dependency (usually the database) is unreachable; retry shortly.',
+  },
 } as const satisfies Record<string, { status: number; title: string; description: string }>;
 
 export type ProblemCode = keyof typeof PROBLEM_CATALOG;

@@ -46,7 +46,13 @@ interface Classified {
 
 function classify(error: unknown): Classified {
   if (error instanceof DomainError) {
-    return { code: error.code, detail: error.detail, ...(error.errors ? { errors: error.errors } : {}), extensions: error.extensions, headers: error.headers };
+    return {
+      code: error.code,
+      detail: error.detail,
+      ...(error.errors ? { errors: error.errors } : {}),
+      extensions: error.extensions,
+      headers: error.headers,
+    };
   }
   if (error instanceof ZodValidationException) return fromZod(error.getZodError() as ZodError);
   if (error instanceof MetrologyInputError) {
@@ -57,7 +63,8 @@ function classify(error: unknown): Classified {
       ...(error.validRange ? { extensions: { validRange: error.validRange } } : {}),
     };
   }
-  if (isDatabaseUnavailable(error)) return { code: 'service-unavailable', detail: 'The database is unreachable; retry shortly.', headers: { 'retry-after': '2' } };
+  if (isDatabaseUnavailable(error))
+    return { code: 'service-unavailable', detail: 'The database is unreachable; retry shortly.', headers: { 'retry-after': '2' } };
   const prismaCode = (error as { code?: unknown })?.code;
   if (prismaCode === 'P2002') return { code: 'conflict', detail: 'A record with the same unique value already exists.' };
   if (prismaCode === 'P2025') return { code: 'not-found' };
@@ -77,9 +84,18 @@ function fromHttpException(error: HttpException): Classified {
   if (status === 400 && /JSON/.test(error.message)) return { code: 'malformed-body', detail: 'The body is not valid JSON.' };
   if (status === 404) return { code: 'route-not-found', detail: error.message.replace(/^Cannot/, 'No endpoint for') };
   const byStatus: Partial<Record<number, ProblemCode>> = {
-    400: 'validation-failed', 401: 'unauthenticated', 403: 'forbidden', 405: 'method-not-allowed', 409: 'conflict',
-    412: 'precondition-failed', 413: 'payload-too-large', 415: 'unsupported-media-type', 422: 'unprocessable-quantity',
-    428: 'precondition-required', 429: 'too-many-requests', 503: 'service-unavailable',
+    400: 'validation-failed',
+    401: 'unauthenticated',
+    403: 'forbidden',
+    405: 'method-not-allowed',
+    409: 'conflict',
+    412: 'precondition-failed',
+    413: 'payload-too-large',
+    415: 'unsupported-media-type',
+    422: 'unprocessable-quantity',
+    428: 'precondition-required',
+    429: 'too-many-requests',
+    503: 'service-unavailable',
   };
   const code = byStatus[status];
   return code ? { code, detail: error.message } : { code: 'internal-error' };
@@ -107,13 +123,36 @@ function fromFastify(error: unknown): Classified | null {
   return null;
 }
 
-const UNAVAILABLE_CODES = new Set(['ECONNREFUSED', 'ECONNRESET', 'ETIMEDOUT', 'EPIPE', '57P01', '57P02', '57P03', '08000', '08001', '08003', '08006', 'P1001', 'P1002', 'P1017']);
+const UNAVAILABLE_CODES = new Set([
+  'ECONNREFUSED',
+  'ECONNRESET',
+  'ETIMEDOUT',
+  'EPIPE',
+  '57P01',
+  '57P02',
+  '57P03',
+  '08000',
+  '08001',
+  '08003',
+  '08006',
+  'P1001',
+  'P1002',
+  'P1017',
+]);
 
 /** Connection-level failures: the database went away, not a bug in the request. */
 export function isDatabaseUnavailable(error: unknown): boolean {
-  for (let e = error as { code?: unknown; cause?: unknown; message?: unknown } | undefined, depth = 0; e && depth < 5; e = e.cause as typeof e, depth++) {
+  for (
+    let e = error as { code?: unknown; cause?: unknown; message?: unknown } | undefined, depth = 0;
+    e && depth < 5;
+    e = e.cause as typeof e, depth++
+  ) {
     if (typeof e.code === 'string' && UNAVAILABLE_CODES.has(e.code)) return true;
-    if (typeof e.message === 'string' && /(timeout exceeded when trying to connect|Connection terminated|connect ECONNREFUSED|Can't reach database server)/i.test(e.message)) return true;
+    if (
+      typeof e.message === 'string' &&
+      /(timeout exceeded when trying to connect|Connection terminated|connect ECONNREFUSED|Can't reach database server)/i.test(e.message)
+    )
+      return true;
   }
   return false;
 }

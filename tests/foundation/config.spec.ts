@@ -1,0 +1,35 @@
+import { resolve } from 'node:path';
+
+import { ConfigError, parseConfig } from '../../apps/api/src/config/config.schema';
+
+describe('configuration', () => {
+  it('has working defaults for a fresh clone', () => {
+    const config = parseConfig({});
+    expect(config.http).toMatchObject({ port: 3000, host: '127.0.0.1', corsOrigins: [] });
+    expect(config.database.url).toBeUndefined();
+    expect(config.database.dataDir).toBe(resolve('.data/postgres'));
+    expect(config.logLevel).toBe('info');
+  });
+
+  it.each([
+    [{ PORT: 'eighty' }, /^Invalid configuration: PORT /],
+    [{ PORT: '70000' }, /^Invalid configuration: PORT /],
+    [{ DATABASE_URL: 'mysql://x' }, /^Invalid configuration: DATABASE_URL must be a postgresql:\/\/ URL/],
+    [{ LOG_LEVEL: 'loud' }, /^Invalid configuration: LOG_LEVEL /],
+    [{ CORS_ORIGINS: 'not a url' }, /^Invalid configuration: CORS_ORIGINS /],
+  ])('stops with one line naming the variable for %j', (env, message) => {
+    expect(() => parseConfig(env)).toThrow(ConfigError);
+    expect(() => parseConfig(env)).toThrow(message);
+  });
+
+  it('treats empty variables as unset', () => {
+    expect(parseConfig({ DATABASE_URL: '', PORT: '' }).http.port).toBe(3000);
+  });
+
+  it('parses a list of CORS origins', () => {
+    expect(parseConfig({ CORS_ORIGINS: 'https://a.example, https://b.example:8443' }).http.corsOrigins).toEqual([
+      'https://a.example',
+      'https://b.example:8443',
+    ]);
+  });
+});
