@@ -10,3 +10,7 @@ export * from './statistics';
 export * from './statistics-quantiles';
 export * from './tolerances';
 export * from './balance';
+export * from './uncertainty';
+export * from './volume-uncertainty';
+export * from './monte-carlo';
+export * from './gravimetric-run';
