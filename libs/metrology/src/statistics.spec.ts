@@ -64,12 +64,9 @@ describe('replicate statistics', () => {
           const s = sampleStandardDeviation(xs);
           const scaled = sampleStandardDeviation(xs.map((x) => new Decimal(x).times(k)));
           const shifted = sampleStandardDeviation(xs.map((x) => x + shift));
-          return (
-            scaled
-              .minus(s.times(Math.abs(k)))
-              .abs()
-              .lessThan('1e-25') && shifted.minus(s).abs().lessThan('1e-25')
-          );
+          // 34 significant digits: compare relatively (1e-30 of the magnitude), not absolutely.
+          const close = (a: Decimal, b: Decimal) => a.minus(b).abs().lte(Decimal.max(a.abs(), b.abs(), 1).times('1e-30'));
+          return close(scaled, s.times(Math.abs(k))) && close(shifted, s);
         },
       ),
     );
