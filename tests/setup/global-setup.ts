@@ -1,4 +1,4 @@
-import { mkdtemp, readdir, rm, stat } from 'node:fs/promises';
+import { mkdtemp, readdir, readFile, rm, stat, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 
@@ -11,6 +11,7 @@ import { migrationsDir } from '../../libs/data/src/database-server';
 import { migrate } from '../../libs/data/src/migrations/migration-runner';
 
 const PREFIX = 'registry-test-pg-';
+const OWNER_FILE = 'owner.pid';
 
 /**
  * One PostgreSQL for the whole run: the server in TEST_DATABASE_URL, or an
@@ -23,6 +24,7 @@ export default async function globalSetup(): Promise<void> {
   if (!adminUrl) {
     await removeStaleFolders();
     const dataDir = await mkdtemp(join(tmpdir(), PREFIX));
+    await writeFile(join(dataDir, OWNER_FILE), String(process.pid));
     const server = await startEmbeddedPostgres({ dataDir: join(dataDir, 'cluster'), database: 'postgres' });
     (globalThis as Record<string, unknown>).__registryTestServer = { server, dataDir };
     adminUrl = server.url;
@@ -54,17 +56,22 @@ export async function withClient<T>(url: string, fn: (c: Client) => Promise<T>):
   }
 }
 
-/** Folders left by killed runs: their server is gone. */
+/**
+ * Folders left by killed runs. Each run writes its own pid into its folder;
+ * a folder is removed only when that process is gone (never while another
+ * run, possibly mid-initdb, still owns it).
+ */
 async function removeStaleFolders(): Promise<void> {
   for (const name of await readdir(tmpdir())) {
     if (!name.startsWith(PREFIX)) continue;
     const dir = join(tmpdir(), name);
-    const pidText = await import('node:fs/promises')
-      .then((fs) => fs.readFile(join(dir, 'cluster', 'postmaster.pid'), 'utf8'))
-      .catch(() => '');
-    const pid = Number.parseInt(pidText.split('\n')[0] ?? '', 10);
-    const age = Date.now() - (await stat(dir)).mtimeMs;
-    if ((pid > 0 && isAlive(pid)) || (!pid && age < 60 * 60_000)) continue;
-    await rm(dir, { recursive: true, force: true });
+    const owner = Number.parseInt(await readFile(join(dir, OWNER_FILE), 'utf8').catch(() => ''), 10);
+    const ageMs =
+      Date.now() -
+      (await stat(dir)
+        .then((s) => s.mtimeMs)
+        .catch(() => Date.now()));
+    const abandoned = owner > 0 ? !isAlive(owner) : ageMs > 60 * 60_000;
+    if (abandoned) await rm(dir, { recursive: true, force: true });
   }
 }
