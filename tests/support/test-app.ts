@@ -8,6 +8,7 @@ import request from 'supertest';
 import type TestAgent from 'supertest/lib/agent';
 
 import { createApp } from '../../apps/api/src/app.factory';
+import type { Clock } from '../../apps/api/src/common/clock';
 import { type EnvInput, parseConfig } from '../../apps/api/src/config/config.schema';
 import { createLogger } from '../../apps/api/src/logging';
 import { createTestDatabase, type TestDatabase } from './test-database';
@@ -23,7 +24,7 @@ export interface TestApp {
 }
 
 /** The real application (same factory as main.ts) on a fresh database of its own. */
-export async function startTestApp(env: Partial<Record<keyof EnvInput, string>> = {}): Promise<TestApp> {
+export async function startTestApp(env: Partial<Record<keyof EnvInput, string>> = {}, options: { clock?: Clock } = {}): Promise<TestApp> {
   const testDatabase = await createTestDatabase();
   const config = parseConfig({ NODE_ENV: 'test', LOG_LEVEL: 'info', ...env, DATABASE_URL: testDatabase.url });
   const logs: Record<string, unknown>[] = [];
@@ -34,7 +35,7 @@ export async function startTestApp(env: Partial<Record<keyof EnvInput, string>> 
     },
   });
   const database = createDatabase({ databaseUrl: testDatabase.url, poolMax: 5 });
-  const app = await createApp({ config, database, logger: createLogger(config, sink) });
+  const app = await createApp({ config, database, logger: createLogger(config, sink), ...(options.clock ? { clock: options.clock } : {}) });
   await app.init();
   await app.getHttpAdapter().getInstance().ready();
   return {

@@ -5,6 +5,7 @@ import type { FastifyInstance } from 'fastify';
 import type { Logger as PinoLogger } from 'pino';
 
 import { AppModule } from './app.module';
+import type { Clock } from './common/clock';
 import { registerResponseHeaders } from './common/http/security-headers';
 import { requestIdFor } from './common/http/request-id';
 import { RequestLogController } from './common/http/request-logging';
@@ -19,13 +20,14 @@ export interface CreateAppOptions {
   readonly config: AppConfig;
   readonly database: Database;
   readonly logger: PinoLogger;
+  readonly clock?: Clock;
 }
 
 /**
  * Builds the HTTP application exactly as production runs it: the same adapter,
  * pipes, filter, hooks and docs. Tests use this too (then call `init()`).
  */
-export async function createApp({ config, database, logger }: CreateAppOptions): Promise<NestFastifyApplication> {
+export async function createApp({ config, database, logger, clock }: CreateAppOptions): Promise<NestFastifyApplication> {
   const adapter = new FastifyAdapter({
     loggerInstance: logger,
     genReqId: requestIdFor,
@@ -36,10 +38,14 @@ export async function createApp({ config, database, logger }: CreateAppOptions):
     return503OnClosing: true,
   });
   const metrics = new HttpMetrics(database.pool);
-  const app = await NestFactory.create<NestFastifyApplication>(AppModule.register({ config, database, metrics }), adapter, {
-    logger: new PinoNestLogger(logger),
-    abortOnError: false,
-  });
+  const app = await NestFactory.create<NestFastifyApplication>(
+    AppModule.register({ config, database, metrics, ...(clock ? { clock } : {}) }),
+    adapter,
+    {
+      logger: new PinoNestLogger(logger),
+      abortOnError: false,
+    },
+  );
   const fastify = app.getHttpAdapter().getInstance() as unknown as FastifyInstance;
   registerResponseHeaders(fastify);
   metrics.register(fastify);

@@ -33,6 +33,10 @@ export const configSchema = z.object({
         .filter(Boolean),
     )
     .pipe(z.array(z.url({ message: 'must be a comma-separated list of origins (https://host[:port])' }))),
+  SESSION_IDLE_MINUTES: positiveInt.max(24 * 60).default(30),
+  SESSION_ABSOLUTE_HOURS: positiveInt.max(24 * 30).default(12),
+  SIGN_IN_MAX_FAILURES: positiveInt.max(1000).default(5),
+  SIGN_IN_WINDOW_MINUTES: positiveInt.max(24 * 60).default(15),
   TRUST_PROXY: z
     .enum(['true', 'false'])
     .default('false')
@@ -58,6 +62,12 @@ export interface AppConfig {
     readonly embeddedPort: number;
     readonly poolMax: number;
     readonly connectTimeoutMs: number;
+  };
+  readonly auth: {
+    readonly sessionIdleMs: number;
+    readonly sessionAbsoluteMs: number;
+    readonly signInMaxFailures: number;
+    readonly signInWindowMs: number;
   };
   readonly logLevel: Env['LOG_LEVEL'];
   readonly shutdownGraceMs: number;
@@ -86,6 +96,12 @@ export function parseConfig(source: Record<string, string | undefined>): AppConf
       embeddedPort: e.EMBEDDED_DB_PORT,
       poolMax: e.DB_POOL_MAX,
       connectTimeoutMs: e.DB_CONNECT_TIMEOUT_MS,
+    },
+    auth: {
+      sessionIdleMs: e.SESSION_IDLE_MINUTES * 60_000,
+      sessionAbsoluteMs: e.SESSION_ABSOLUTE_HOURS * 3_600_000,
+      signInMaxFailures: e.SIGN_IN_MAX_FAILURES,
+      signInWindowMs: e.SIGN_IN_WINDOW_MINUTES * 60_000,
     },
     logLevel: e.LOG_LEVEL,
     shutdownGraceMs: e.SHUTDOWN_GRACE_MS,

@@ -3,11 +3,13 @@ import { ApiOperation, ApiTags } from '@nestjs/swagger';
 import { Pool } from 'pg';
 
 import { DomainError } from '../common/problem/domain-error';
+import { Public } from '../auth/auth.decorators';
 
 const READY_TIMEOUT_MS = 2_000;
 
 @ApiTags('health')
 @Controller('health')
+@Public()
 export class HealthController {
   constructor(private readonly pool: Pool) {}
 

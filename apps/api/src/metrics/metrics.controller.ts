@@ -2,9 +2,11 @@ import { Controller, Get, Header } from '@nestjs/common';
 import { ApiExcludeController } from '@nestjs/swagger';
 
 import { HttpMetrics } from './metrics';
+import { Public } from '../auth/auth.decorators';
 
 @ApiExcludeController()
 @Controller('metrics')
+@Public()
 export class MetricsController {
   constructor(private readonly metrics: HttpMetrics) {}
 

@@ -3,10 +3,12 @@ import { ApiOperation, ApiTags } from '@nestjs/swagger';
 
 import { DomainError } from './domain-error';
 import { PROBLEM_CATALOG, type ProblemCode, problemTypeUri } from './problem-catalog';
+import { Public } from '../../auth/auth.decorators';
 
 /** Makes every problem `type` URI dereferenceable: what the code means and its status. */
 @ApiTags('problems')
 @Controller('problems')
+@Public()
 export class ProblemTypesController {
   @Get()
   @ApiOperation({ summary: 'List every problem type the API can answer with' })

@@ -1,0 +1,24 @@
+import { Controller, Get } from '@nestjs/common';
+import { ApiOperation, ApiTags } from '@nestjs/swagger';
+
+import type { RequestContext } from './actor';
+import { Ctx, PeopleOnly } from './auth.decorators';
+
+@ApiTags('sessions')
+@Controller('v1/me')
+export class MeController {
+  @Get()
+  @PeopleOnly()
+  @ApiOperation({ summary: 'Who is signed in: registry role and lab memberships' })
+  me(@Ctx() ctx: RequestContext) {
+    const a = ctx.actor;
+    if (a.kind !== 'person') throw new Error('unreachable: people-only route');
+    return {
+      id: a.id,
+      email: a.email,
+      displayName: a.displayName,
+      registryRole: a.registryRole,
+      labs: [...a.labs].map(([labId, role]) => ({ labId, role })),
+    };
+  }
+}

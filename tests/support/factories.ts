@@ -1,0 +1,94 @@
+import { randomBytes } from 'node:crypto';
+
+import type { PrismaClient } from '@registry/data';
+
+import type { LabRole, RegistryRole, Scope } from '../../apps/api/src/auth/actor';
+import { newCredentialKey, newSessionToken } from '../../apps/api/src/auth/tokens';
+
+/**
+ * Test data straight into the database (fast: no password hashing). Names and
+ * values follow the demo scenario: a municipal water authority's labs.
+ */
+const unique = () => randomBytes(3).toString('hex').toUpperCase();
+
+export async function seedLab(prisma: PrismaClient, overrides: { code?: string; name?: string; timeZone?: string } = {}) {
+  return prisma.lab.create({
+    data: {
+      code: overrides.code ?? `LAB-${unique()}`,
+      name: overrides.name ?? 'Drinking-water chemistry',
+      timeZone: overrides.timeZone ?? 'Europe/Vienna',
+    },
+  });
+}
+
+export interface SeedPerson {
+  email?: string;
+  displayName?: string;
+  registryRole?: RegistryRole | null;
+  labs?: { labId: string; role: LabRole; externalRef?: string }[];
+  status?: 'active' | 'disabled';
+}
+
+export async function seedPerson(prisma: PrismaClient, p: SeedPerson = {}) {
+  const person = await prisma.person.create({
+    data: {
+      email: p.email ?? `analyst-${unique().toLowerCase()}@waterworks.example`,
+      displayName: p.displayName ?? 'Test Analyst',
+      registryRole: p.registryRole ?? null,
+      status: p.status ?? 'active',
+    },
+  });
+  for (const m of p.labs ?? []) {
+    await prisma.labMembership.create({
+      data: { labId: m.labId, personId: person.id, labRole: m.role, externalRef: m.externalRef ?? null },
+    });
+  }
+  return person;
+}
+
+/** A live session for the person; returns the bearer token. */
+export async function sessionFor(prisma: PrismaClient, personId: string, now: Date = new Date()): Promise<string> {
+  const { token, hash } = newSessionToken();
+  await prisma.session.create({
+    data: { personId, tokenHash: hash, createdAt: now, lastSeenAt: now, expiresAt: new Date(now.getTime() + 12 * 3_600_000) },
+  });
+  return token;
+}
+
+/** A service credential; returns the full key to send as a bearer token. */
+export async function seedCredential(prisma: PrismaClient, createdBy: string, scopes: Scope[], labIds: string[] | 'all' = 'all') {
+  const { key, keyId, secretHash } = newCredentialKey();
+  const credential = await prisma.serviceCredential.create({
+    data: {
+      name: `integration-${keyId.slice(0, 4)}`,
+      keyId,
+      secretHash,
+      scopes,
+      allLabs: labIds === 'all',
+      labIds: labIds === 'all' ? [] : labIds,
+      createdBy,
+    },
+  });
+  return { key, credential };
+}
+
+/** One lab with an administrator, an auditor, a manager, an analyst; plus a second lab with its own manager. */
+export async function seedCast(prisma: PrismaClient) {
+  const lab = await seedLab(prisma, { name: 'Drinking-water chemistry' });
+  const otherLab = await seedLab(prisma, { name: 'Wastewater laboratory' });
+  const admin = await seedPerson(prisma, { displayName: 'Registry Admin', registryRole: 'administrator' });
+  const auditor = await seedPerson(prisma, { displayName: 'External Auditor', registryRole: 'auditor' });
+  const manager = await seedPerson(prisma, { displayName: 'Lab Manager', labs: [{ labId: lab.id, role: 'manager' }] });
+  const analyst = await seedPerson(prisma, { displayName: 'Bench Analyst', labs: [{ labId: lab.id, role: 'analyst' }] });
+  const otherManager = await seedPerson(prisma, { displayName: 'Other Manager', labs: [{ labId: otherLab.id, role: 'manager' }] });
+  const tokens = {
+    admin: await sessionFor(prisma, admin.id),
+    auditor: await sessionFor(prisma, auditor.id),
+    manager: await sessionFor(prisma, manager.id),
+    analyst: await sessionFor(prisma, analyst.id),
+    otherManager: await sessionFor(prisma, otherManager.id),
+  };
+  return { lab, otherLab, people: { admin, auditor, manager, analyst, otherManager }, tokens };
+}
+
+export const bearer = (token: string) => ({ authorization: `Bearer ${token}` });
