@@ -92,3 +92,19 @@ export async function seedCast(prisma: PrismaClient) {
 }
 
 export const bearer = (token: string) => ({ authorization: `Bearer ${token}` });
+
+/** A person who signs in with `password` (hashed with the service's own argon2id parameters). */
+export async function seedPersonWithPassword(prisma: PrismaClient, password: string, p: SeedPerson = {}) {
+  const { hashPassword } = await import('../../apps/api/src/sessions/password-hashing');
+  const person = await seedPerson(prisma, p);
+  return prisma.person.update({
+    where: { id: person.id },
+    data: { passwordHash: await hashPassword(password), passwordSetAt: new Date() },
+  });
+}
+
+/** Everything the audit trail holds, plus the captured logs, as one text to search for secrets. */
+export async function auditAndLogText(prisma: PrismaClient, logs: readonly unknown[]): Promise<string> {
+  const entries = await prisma.auditEntry.findMany();
+  return JSON.stringify([entries, logs], (_key, value: unknown) => (typeof value === 'bigint' ? value.toString() : value));
+}
