@@ -126,6 +126,7 @@ describe('labs and their members', () => {
     await as(token).get(`/v1/labs/${cast.lab.id}`).expect(404);
     const entries = await t.database.prisma.auditEntry.findMany({
       where: { entityType: 'lab-membership', entityId: `${cast.lab.id}/${newcomer.id}` },
+      orderBy: { seq: 'asc' },
     });
     expect(entries.map((e) => e.action)).toEqual(['create', 'update', 'delete']);
     expect(entries.every((e) => e.labId === cast.lab.id && e.actorId === cast.people.manager.id)).toBe(true);

@@ -100,7 +100,10 @@ describe('signing in and out', () => {
     await signIn(person.email, 'not quite the right phrase', ip).expect(401);
     const { token } = (await signIn(person.email, PASSWORD, ip).expect(201)).body;
     await t.http.delete('/v1/sessions/current').set(bearer(token)).expect(204);
-    const entries = await t.database.prisma.auditEntry.findMany({ where: { OR: [{ actorId: person.id }, { entityId: person.id }] } });
+    const entries = await t.database.prisma.auditEntry.findMany({
+      where: { OR: [{ actorId: person.id }, { entityId: person.id }] },
+      orderBy: { seq: 'asc' },
+    });
     expect(entries.map((e) => [e.action, e.actorKind])).toEqual([
       ['sign-in-failed', 'anonymous'],
       ['sign-in', 'person'],
