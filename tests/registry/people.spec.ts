@@ -73,11 +73,16 @@ describe('people', () => {
       const seen: string[] = [];
       let cursor: string | null = null;
       do {
-        const res = await as(token)
-          .get(`/v1/people?limit=2${cursor ? `&cursor=${cursor}` : ''}`)
-          .expect(200);
-        seen.push(...res.body.items.map((p: { id: string }) => p.id));
-        cursor = res.body.nextCursor;
+        const page = (
+          await as(token)
+            .get(`/v1/people?limit=2${cursor ? `&cursor=${cursor}` : ''}`)
+            .expect(200)
+        ).body as {
+          items: { id: string }[];
+          nextCursor: string | null;
+        };
+        seen.push(...page.items.map((p) => p.id));
+        cursor = page.nextCursor;
       } while (cursor);
       return seen;
     };

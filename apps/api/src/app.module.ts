@@ -1,21 +1,33 @@
 import { type DynamicModule, Global, Module } from '@nestjs/common';
-import { APP_FILTER, APP_INTERCEPTOR, APP_PIPE } from '@nestjs/core';
+import { APP_FILTER, APP_GUARD, APP_INTERCEPTOR, APP_PIPE } from '@nestjs/core';
 import { type Database, PrismaClient } from '@registry/data';
 import { ZodSerializerInterceptor } from 'nestjs-zod';
 import { Pool } from 'pg';
 
+import { AuditWriter } from './audit/audit-writer';
+import { AuditTrailModule } from './audit-trail/audit-trail.module';
+import { AuthGuard } from './auth/auth.guard';
+import { Authenticator } from './auth/authenticator';
+import { MeController } from './auth/me.controller';
+import { Clock, SystemClock } from './common/clock';
+import { CredentialsModule } from './credentials/credentials.module';
 import { APP_CONFIG, type AppConfig } from './config/config.schema';
 import { ProblemFilter } from './common/problem/problem.filter';
 import { ProblemTypesController } from './common/problem/problem-types.controller';
 import { RegistryValidationPipe } from './common/validation';
 import { HealthController } from './health/health.controller';
+import { LabsModule } from './labs/labs.module';
 import { HttpMetrics } from './metrics/metrics';
 import { MetricsController } from './metrics/metrics.controller';
+import { PeopleModule } from './people/people.module';
+import { SessionsModule } from './sessions/sessions.module';
 
 export interface AppDependencies {
   readonly config: AppConfig;
   readonly database: Database;
   readonly metrics: HttpMetrics;
+  /** Defaults to the system clock; tests pass a ManualClock. */
+  readonly clock?: Clock;
 }
 
 /** Root module: shared infrastructure is global, features are imported below. */
@@ -28,13 +40,17 @@ export class AppModule {
       { provide: PrismaClient, useValue: deps.database.prisma },
       { provide: Pool, useValue: deps.database.pool },
       { provide: HttpMetrics, useValue: deps.metrics },
+      { provide: Clock, useValue: deps.clock ?? new SystemClock() },
+      { provide: Authenticator, useClass: Authenticator },
+      { provide: AuditWriter, useClass: AuditWriter },
     ];
     return {
       module: AppModule,
-      imports: [],
-      controllers: [HealthController, MetricsController, ProblemTypesController],
+      imports: [AuditTrailModule, SessionsModule, PeopleModule, LabsModule, CredentialsModule],
+      controllers: [HealthController, MetricsController, ProblemTypesController, MeController],
       providers: [
         ...infrastructure,
+        { provide: APP_GUARD, useClass: AuthGuard },
         { provide: APP_PIPE, useClass: RegistryValidationPipe },
         { provide: APP_INTERCEPTOR, useClass: ZodSerializerInterceptor },
         { provide: APP_FILTER, useClass: ProblemFilter },
