@@ -28,6 +28,7 @@ export class LabsRepository {
   create(db: Db, lab: NewLab, now: Date): Promise<Lab> {
     return uniqueOr409(
       db.lab.create({ data: { ...lab, createdAt: now, updatedAt: now } }),
+      'labs_code_key',
       'code',
       `A lab with code ${lab.code} already exists.`,
     );

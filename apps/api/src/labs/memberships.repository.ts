@@ -40,6 +40,7 @@ export class MembershipsRepository {
         data: { labId, personId, labRole: grant.role, externalRef: grant.externalRef, createdAt: now },
         include: withPerson,
       }),
+      'lab_memberships_external_ref_key',
       'externalRef',
       EXTERNAL_REF_TAKEN,
     );
@@ -52,6 +53,7 @@ export class MembershipsRepository {
         data: { labRole: grant.role, externalRef: grant.externalRef },
         include: withPerson,
       }),
+      'lab_memberships_external_ref_key',
       'externalRef',
       EXTERNAL_REF_TAKEN,
     );

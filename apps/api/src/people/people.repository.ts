@@ -51,6 +51,7 @@ export class PeopleRepository {
   create(db: Db, p: NewPerson, now: Date): Promise<Person> {
     return uniqueOr409(
       db.person.create({ data: { ...p, mustChangePassword: true, createdAt: now, updatedAt: now }, select }),
+      'people_email_key',
       'email',
       `Someone with email ${p.email} is already registered.`,
     );
