@@ -44,6 +44,11 @@ async function startService(dataDir: string, port: number): Promise<Running> {
       }
     });
     child.once('exit', (code) => fail(new Error(`service exited early (${code}): ${stderr.join('')}`)));
+    // Never leave a hung child behind a failed test.
+    setTimeout(() => {
+      child.kill('SIGKILL');
+      fail(new Error(`service not ready within 25 s: ${stderr.join('')}`));
+    }, 25_000).unref();
   });
   return { child, lines, stderr, port };
 }

@@ -5,11 +5,11 @@ import { startTestApp, type TestApp } from '../support/test-app';
 
 type Cast = Awaited<ReturnType<typeof seedCast>>;
 
-async function sql(t: TestApp, text: string, params: unknown[] = []) {
+async function sql(t: TestApp, text: string, params: readonly unknown[] = []) {
   const client = new Client({ connectionString: t.testDatabase.url });
   await client.connect();
   try {
-    return (await client.query(text, params)).rows;
+    return (await client.query(text, [...params])).rows;
   } finally {
     await client.end();
   }

@@ -9,6 +9,7 @@ import { startEmbeddedPostgres } from '../../libs/data/src/embedded/embedded-pos
 import { isAlive } from '../../libs/data/src/embedded/postmaster-lock';
 import { migrationsDir } from '../../libs/data/src/database-server';
 import { migrate } from '../../libs/data/src/migrations/migration-runner';
+import { ensureRuntimeLogin, grantRuntimeRole, RUNTIME_ROLE } from '../../libs/data/src/runtime-role';
 
 const PREFIX = 'registry-test-pg-';
 const OWNER_FILE = 'owner.pid';
@@ -35,6 +36,13 @@ export default async function globalSetup(): Promise<void> {
     await c.query(`CREATE DATABASE ${template}`);
   });
   await migrate(withDatabase(adminUrl, template), migrationsDir(join(__dirname, '..', '..', 'libs', 'data', 'src')));
+  // The service runs as an unprivileged role, as in production; skip where we may not create roles.
+  try {
+    process.env.REGISTRY_TEST_APP_URL = await ensureRuntimeLogin(adminUrl, 'registry-test-runtime-password');
+    await grantRuntimeRole(withDatabase(adminUrl, template));
+  } catch (err) {
+    console.warn(`Tests run as the owner role: could not set up ${RUNTIME_ROLE} (${(err as Error).message})`);
+  }
   process.env.REGISTRY_TEST_ADMIN_URL = adminUrl;
   process.env.REGISTRY_TEST_TEMPLATE = template;
   if (process.env.REGISTRY_TEST_VERBOSE) console.log(`\ntest database ready in ${Date.now() - started} ms`);

@@ -108,3 +108,47 @@ export async function auditAndLogText(prisma: PrismaClient, logs: readonly unkno
   const entries = await prisma.auditEntry.findMany();
   return JSON.stringify([entries, logs], (_key, value: unknown) => (typeof value === 'bigint' ? value.toString() : value));
 }
+
+type DataModels = import('@registry/data').Prisma.TypeMap['model'];
+type CreateInput<M extends keyof DataModels> = DataModels[M]['operations']['create']['args']['data'];
+
+/** A class A 25 mL one-mark pipette (demo tags PIP-25-nnn) straight into the database. */
+export async function seedVessel(prisma: PrismaClient, labId: string, overrides: Partial<CreateInput<'Vessel'>> = {}) {
+  return prisma.vessel.create({
+    data: {
+      labId,
+      assetTag: `PIP-25-${unique()}`,
+      kind: 'one-mark-pipette',
+      deliveryMode: 'deliver',
+      nominalVolumeMl: '25',
+      accuracyClass: 'A',
+      classStandard: 'ISO 648:2008',
+      material: 'borosilicate-3-3',
+      expansionCoefficientPerK: '0.0000099',
+      limitMl: '0.03',
+      limitSource: 'class-table',
+      ...overrides,
+    } as CreateInput<'Vessel'>,
+  });
+}
+
+/** An analytical balance, 220 g / 0.1 mg (demo tags BAL-nn). */
+export async function seedBalance(prisma: PrismaClient, labId: string, overrides: Partial<CreateInput<'Balance'>> = {}) {
+  return prisma.balance.create({
+    data: { labId, assetTag: `BAL-${unique()}`, capacityG: '220', readabilityG: '0.0001', ...overrides } as CreateInput<'Balance'>,
+  });
+}
+
+/** A class F1 100 g check weight. */
+export async function seedReferenceWeight(prisma: PrismaClient, labId: string, overrides: Partial<CreateInput<'ReferenceWeight'>> = {}) {
+  return prisma.referenceWeight.create({
+    data: { labId, assetTag: `CW-F1-${unique()}`, nominalMassG: '100', oimlClass: 'F1', ...overrides } as CreateInput<'ReferenceWeight'>,
+  });
+}
+
+/** A thermometer. */
+export async function seedInstrument(prisma: PrismaClient, labId: string, overrides: Partial<CreateInput<'Instrument'>> = {}) {
+  return prisma.instrument.create({
+    data: { labId, assetTag: `TH-${unique()}`, kind: 'thermometer', ...overrides } as CreateInput<'Instrument'>,
+  });
+}

@@ -26,7 +26,7 @@ export interface TestApp {
 /** The real application (same factory as main.ts) on a fresh database of its own. */
 export async function startTestApp(env: Partial<Record<keyof EnvInput, string>> = {}, options: { clock?: Clock } = {}): Promise<TestApp> {
   const testDatabase = await createTestDatabase();
-  const config = parseConfig({ NODE_ENV: 'test', LOG_LEVEL: 'info', ...env, DATABASE_URL: testDatabase.url });
+  const config = parseConfig({ NODE_ENV: 'test', LOG_LEVEL: 'info', ...env, DATABASE_URL: testDatabase.appUrl });
   const logs: Record<string, unknown>[] = [];
   const sink = new Writable({
     write(chunk: Buffer, _enc, done) {
@@ -34,7 +34,7 @@ export async function startTestApp(env: Partial<Record<keyof EnvInput, string>> 
       done();
     },
   });
-  const database = createDatabase({ databaseUrl: testDatabase.url, poolMax: 5 });
+  const database = createDatabase({ databaseUrl: testDatabase.appUrl, poolMax: 5 });
   const app = await createApp({ config, database, logger: createLogger(config, sink), ...(options.clock ? { clock: options.clock } : {}) });
   await app.init();
   await app.getHttpAdapter().getInstance().ready();

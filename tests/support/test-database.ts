@@ -4,7 +4,10 @@ import { Client } from 'pg';
 
 /** A database of its own for one test file, cloned from the migrated template. */
 export interface TestDatabase {
+  /** Owner connection: seeding, tampering, direct SQL. */
   readonly url: string;
+  /** The service's unprivileged connection (the owner's where no runtime role exists). */
+  readonly appUrl: string;
   readonly name: string;
   drop(): Promise<void>;
 }
@@ -17,6 +20,14 @@ function env(name: string): string {
 
 export function databaseUrl(name: string): string {
   const u = new URL(env('REGISTRY_TEST_ADMIN_URL'));
+  u.pathname = `/${name}`;
+  return u.toString();
+}
+
+function appDatabaseUrl(name: string): string {
+  const base = process.env.REGISTRY_TEST_APP_URL;
+  if (!base) return databaseUrl(name);
+  const u = new URL(base);
   u.pathname = `/${name}`;
   return u.toString();
 }
@@ -38,6 +49,7 @@ export async function createTestDatabase(): Promise<TestDatabase> {
   return {
     name,
     url: databaseUrl(name),
+    appUrl: appDatabaseUrl(name),
     drop: () => admin((c) => c.query(`DROP DATABASE IF EXISTS ${name} WITH (FORCE)`)).then(() => undefined),
   };
 }
@@ -49,6 +61,7 @@ export async function createEmptyDatabase(): Promise<TestDatabase> {
   return {
     name,
     url: databaseUrl(name),
+    appUrl: databaseUrl(name),
     drop: () => admin((c) => c.query(`DROP DATABASE IF EXISTS ${name} WITH (FORCE)`)).then(() => undefined),
   };
 }

@@ -23,6 +23,7 @@ async function main(): Promise<void> {
 
   const server = await openDatabaseServer({
     ...(config.database.url ? { url: config.database.url } : {}),
+    ...(config.database.migrationUrl ? { migrationUrl: config.database.migrationUrl } : {}),
     dataDir: config.database.dataDir,
     embeddedPort: config.database.embeddedPort,
     log: (message) => logger.info(message),

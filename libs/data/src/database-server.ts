@@ -2,10 +2,13 @@ import { join } from 'node:path';
 
 import { type EmbeddedServer, startEmbeddedPostgres } from './embedded/embedded-postgres';
 import { migrate, type MigrationReport } from './migrations/migration-runner';
+import { ensureRuntimeLogin, grantRuntimeRole } from './runtime-role';
 
 export interface DatabaseServerOptions {
   /** An external server; when absent an embedded one is started in `dataDir`. */
   readonly url?: string;
+  /** Owner connection for migrations on an external server; defaults to `url`. */
+  readonly migrationUrl?: string;
   readonly dataDir: string;
   readonly embeddedPort?: number;
   readonly database?: string;
@@ -14,7 +17,10 @@ export interface DatabaseServerOptions {
 
 /** A migrated database, embedded or external, ready for the service. */
 export interface DatabaseServer {
+  /** The service's connection: the unprivileged runtime role where one is set up. */
   readonly url: string;
+  /** The owner's connection (migrations, maintenance). */
+  readonly ownerUrl: string;
   readonly embedded: EmbeddedServer | null;
   /** Where the data lives, for the start-up log (never the password). */
   readonly description: string;
@@ -43,10 +49,15 @@ export async function openDatabaseServer(options: DatabaseServerOptions): Promis
     });
     url = embedded.url;
   }
+  const ownerUrl = options.migrationUrl ?? url;
   try {
-    const migrations = await migrate(url, migrationsDir(), log);
+    const migrations = await migrate(ownerUrl, migrationsDir(), log);
+    await grantRuntimeRole(ownerUrl);
+    // On our own server the service never connects as the owner.
+    const serviceUrl = embedded ? await ensureRuntimeLogin(ownerUrl) : url;
     return {
-      url,
+      url: serviceUrl,
+      ownerUrl,
       embedded,
       description: embedded
         ? `embedded PostgreSQL in ${embedded.clusterDir} (127.0.0.1:${embedded.port})`

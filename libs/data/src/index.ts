@@ -4,3 +4,4 @@ export * from './migrations/migration-files';
 export * from './migrations/migration-runner';
 export * from './prisma/prisma-client';
 export * from './database-server';
+export * from './runtime-role';

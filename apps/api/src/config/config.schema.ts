@@ -15,6 +15,7 @@ export const configSchema = z.object({
   PORT: port.default(3000),
   HOST: z.string().trim().min(1).default('127.0.0.1'),
   DATABASE_URL: postgresUrl.optional(),
+  DATABASE_MIGRATION_URL: postgresUrl.optional(),
   DATA_DIR: z.string().trim().min(1).default('./.data/postgres'),
   EMBEDDED_DB_PORT: port.default(0),
   LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).default('info'),
@@ -58,6 +59,8 @@ export interface AppConfig {
   };
   readonly database: {
     readonly url?: string;
+    /** Owner connection for migrations; the service itself uses `url`. */
+    readonly migrationUrl?: string;
     readonly dataDir: string;
     readonly embeddedPort: number;
     readonly poolMax: number;
@@ -92,6 +95,7 @@ export function parseConfig(source: Record<string, string | undefined>): AppConf
     http: { port: e.PORT, host: e.HOST, bodyLimitBytes: e.BODY_LIMIT_BYTES, corsOrigins: e.CORS_ORIGINS, trustProxy: e.TRUST_PROXY },
     database: {
       ...(e.DATABASE_URL ? { url: e.DATABASE_URL } : {}),
+      ...(e.DATABASE_MIGRATION_URL ? { migrationUrl: e.DATABASE_MIGRATION_URL } : {}),
       dataDir: resolve(e.DATA_DIR),
       embeddedPort: e.EMBEDDED_DB_PORT,
       poolMax: e.DB_POOL_MAX,
