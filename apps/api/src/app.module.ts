@@ -9,6 +9,7 @@ import { AuditTrailModule } from './audit-trail/audit-trail.module';
 import { AuthGuard } from './auth/auth.guard';
 import { Authenticator } from './auth/authenticator';
 import { MeController } from './auth/me.controller';
+import { CalculationsModule } from './calculations/calculations.module';
 import { Clock, SystemClock } from './common/clock';
 import { CredentialsModule } from './credentials/credentials.module';
 import { APP_CONFIG, type AppConfig } from './config/config.schema';
@@ -20,6 +21,7 @@ import { LabsModule } from './labs/labs.module';
 import { HttpMetrics } from './metrics/metrics';
 import { MetricsController } from './metrics/metrics.controller';
 import { PeopleModule } from './people/people.module';
+import { ReferenceModule } from './reference/reference.module';
 import { SessionsModule } from './sessions/sessions.module';
 
 export interface AppDependencies {
@@ -46,7 +48,7 @@ export class AppModule {
     ];
     return {
       module: AppModule,
-      imports: [AuditTrailModule, SessionsModule, PeopleModule, LabsModule, CredentialsModule],
+      imports: [AuditTrailModule, CalculationsModule, ReferenceModule, SessionsModule, PeopleModule, LabsModule, CredentialsModule],
       controllers: [HealthController, MetricsController, ProblemTypesController, MeController],
       providers: [
         ...infrastructure,
