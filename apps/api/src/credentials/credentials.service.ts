@@ -96,9 +96,10 @@ export class CredentialsService {
   /** A new key with the same name, scopes and labs; the old one stops working in the same transaction. */
   async rotate(ctx: RequestContext, id: string): Promise<IssuedCredentialView> {
     assertAdministrator(ctx.actor);
+    const now = this.clock.now();
     return this.prisma.$transaction(async (tx) => {
       const old = await this.existing(tx, id);
-      if (!(await this.credentials.revoke(tx, id, this.clock.now()))) {
+      if (!(await this.credentials.revoke(tx, id, now))) {
         throw new DomainError('conflict', 'This credential is revoked; issue a new one instead of rotating it.');
       }
       const issued = await this.issue(tx, ctx, { name: old.name, scopes: old.scopes, labIds: old.allLabs ? 'all' : old.labIds }, old.id);
@@ -107,7 +108,7 @@ export class CredentialsService {
         entityType: 'service-credential',
         entityId: old.id,
         oldValues: { revokedAt: null },
-        newValues: { revokedAt: this.clock.now(), replacedById: issued.id },
+        newValues: { revokedAt: now, replacedById: issued.id },
       });
       return issued;
     });
@@ -116,15 +117,16 @@ export class CredentialsService {
   /** Stops the credential at once. Revoking a revoked credential changes nothing. */
   async revoke(ctx: RequestContext, id: string): Promise<CredentialView> {
     assertAdministrator(ctx.actor);
+    const now = this.clock.now();
     const credential = await this.prisma.$transaction(async (tx) => {
       const before = await this.existing(tx, id);
-      if (await this.credentials.revoke(tx, id, this.clock.now())) {
+      if (await this.credentials.revoke(tx, id, now)) {
         await this.audit.record(tx, ctx, {
           action: 'revoke',
           entityType: 'service-credential',
           entityId: id,
           oldValues: { revokedAt: null },
-          newValues: { revokedAt: this.clock.now() },
+          newValues: { revokedAt: now },
         });
       }
       return (await this.credentials.findById(tx, id)) ?? before;
