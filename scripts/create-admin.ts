@@ -26,6 +26,7 @@ async function main(): Promise<void> {
   const config = parseConfig(process.env);
   const server = await openDatabaseServer({
     ...(config.database.url ? { url: config.database.url } : {}),
+    ...(config.database.migrationUrl ? { migrationUrl: config.database.migrationUrl } : {}),
     dataDir: config.database.dataDir,
     embeddedPort: config.database.embeddedPort,
     log: (m) => console.error(m),
