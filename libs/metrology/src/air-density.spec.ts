@@ -67,7 +67,27 @@ describe('airDensity, CIPM-2007', () => {
     expect(() => airDensity({ ...ok, pressurePa: 0 })).toThrow(MetrologyInputError);
     expect(() => airDensity({ ...ok, temperatureC: -300 })).toThrow(MetrologyInputError);
     expect(() => airDensity({ ...ok, co2MoleFraction: -0.1 })).toThrow(MetrologyInputError);
-    expect(() => airDensity({ ...ok, temperatureC: 60, pressurePa: 15000, relativeHumidityPercent: 100 })).toThrow(/vapour pressure/);
+    expect(() => airDensity({ ...ok, temperatureC: 60, pressurePa: 15000, relativeHumidityPercent: 100 })).toThrow(
+      /pressurePa must be between/,
+    );
+  });
+
+  // Found by the API's property test: with 'warn', extreme temperatures made the
+  // vapour-pressure exponential return NaN or absurd values. Our envelope refuses them.
+  it.each([
+    ['temperatureC', { temperatureC: 80, pressurePa: 101325 }, { min: '-40', max: '60', unit: '°C' }],
+    ['temperatureC', { temperatureC: -273, pressurePa: 101325 }, { min: '-40', max: '60', unit: '°C' }],
+    ['pressurePa', { temperatureC: 20, pressurePa: 2e6 }, { min: '30000', max: '150000', unit: 'Pa' }],
+  ])('refuses %s outside the plausible envelope even on request', (field, values, validRange) => {
+    for (const method of ['cipm-2007', 'oiml-r111'] as const) {
+      const call = () => airDensity({ ...values, relativeHumidityPercent: 0, method, outsideDeclaredRange: 'warn' });
+      expect(call).toThrow(MetrologyInputError);
+      try {
+        call();
+      } catch (err) {
+        expect(err).toMatchObject({ field, validRange });
+      }
+    }
   });
 
   it('warns near a limit of the declared range', () => {
@@ -88,7 +108,9 @@ describe('airDensity, OIML R 111-1 simplified formula', () => {
   it('only warns outside the CIPM-2007 range, whose approximation it is', () => {
     const r = airDensity({ method: 'oiml-r111', temperatureC: 29, pressurePa: 101325, relativeHumidityPercent: 50 });
     expect(r.warnings.map((w) => w.code)).toEqual(['outside-declared-range']);
-    expect(() => airDensity({ method: 'oiml-r111', temperatureC: 30, pressurePa: 100, relativeHumidityPercent: 100 })).toThrow(/too low/);
+    expect(() => airDensity({ method: 'oiml-r111', temperatureC: 30, pressurePa: 100, relativeHumidityPercent: 100 })).toThrow(
+      /pressurePa must be between/,
+    );
   });
 
   // The annex states the approximation's relative uncertainty as about 2e-4 for 900-1100 hPa and

@@ -42,6 +42,12 @@ export const CIPM_2007_RANGE = {
 /** Our choice of "near a limit": half a kelvin, 10 hPa (about twice a good field instrument's uncertainty). */
 const NEAR = { pressurePa: new Decimal(1000), temperatureC: new Decimal('0.5') } as const;
 
+/** Our choice: the widest conditions computed even on request (about twice the laboratory span). */
+const PLAUSIBLE = {
+  temperatureC: { min: '-40', max: '60', unit: '°C' },
+  pressurePa: { min: '30000', max: '150000', unit: 'Pa' },
+} as const satisfies Record<string, ValidRange>;
+
 export type AirDensityMethod = 'cipm-2007' | 'oiml-r111';
 
 export interface AirDensityInput {
@@ -88,6 +94,17 @@ function checkInputs(input: AirDensityInput, method: AirDensityMethod): Checked 
   if (p.lessThanOrEqualTo(0)) throw new MetrologyInputError('pressurePa', 'must be greater than 0 Pa', { min: '0', unit: 'Pa' });
   if (h.lessThan(0) || h.greaterThan(100)) {
     throw new MetrologyInputError('relativeHumidityPercent', 'must be between 0 and 100 %', { min: '0', max: '100', unit: '%' });
+  }
+  // Outside this envelope no request is plausible, whatever the method or option: refuse
+  // rather than extrapolate the vapour-pressure exponentials into nonsense.
+  for (const [field, value] of [
+    ['temperatureC', t],
+    ['pressurePa', p],
+  ] as const) {
+    const env = PLAUSIBLE[field];
+    if (value.lessThan(env.min) || value.greaterThan(env.max)) {
+      throw new MetrologyInputError(field, `must be between ${env.min} and ${env.max} ${env.unit} for any air-density formula here`, env);
+    }
   }
   // The OIML formula approximates CIPM-2007; outside the CIPM range neither is supported,
   // but for the approximation (range not verified) we only warn.
