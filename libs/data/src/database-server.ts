@@ -52,9 +52,9 @@ export async function openDatabaseServer(options: DatabaseServerOptions): Promis
   const ownerUrl = options.migrationUrl ?? url;
   try {
     const migrations = await migrate(ownerUrl, migrationsDir(), log);
-    await grantRuntimeRole(ownerUrl);
-    // On our own server the service never connects as the owner.
+    // On our own server the service never connects as the owner: create its role first, then grant.
     const serviceUrl = embedded ? await ensureRuntimeLogin(ownerUrl) : url;
+    await grantRuntimeRole(ownerUrl);
     return {
       url: serviceUrl,
       ownerUrl,
