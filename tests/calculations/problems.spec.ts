@@ -66,7 +66,7 @@ describe('calculation endpoints: contract and problems', () => {
       ['a missing field', {}, 'temperatureC', 'is required'],
       ['a wrong type', { temperatureC: true }, 'temperatureC', 'must be a finite number or a decimal string'],
       ['a wrong type (boolean member)', { temperatureC: 20, airSaturated: 'yes' }, 'airSaturated', expect.any(String)],
-      ['an unknown field', { temperatureC: 20, colour: 'blue' }, '(body)', expect.stringContaining('"colour"')],
+      ['an unknown field', { temperatureC: 20, colour: 'blue' }, 'colour', 'is not a known field'],
       ['a NaN string', { temperatureC: 'NaN' }, 'temperatureC', expect.stringMatching(/plain decimal/)],
       ['Infinity as a string', { temperatureC: 'Infinity' }, 'temperatureC', expect.stringMatching(/plain decimal/)],
       ['1e309', { temperatureC: '1e309' }, 'temperatureC', expect.stringMatching(/magnitude/)],
@@ -81,10 +81,10 @@ describe('calculation endpoints: contract and problems', () => {
       expect(res.body.errors).toEqual([{ field, reason }]);
     });
 
-    it('for an unknown field inside a nested object, naming the object', async () => {
+    it('for an unknown field inside a nested object, at its own path', async () => {
       const airConditions = { temperatureC: 20, pressurePa: 101325, relativeHumidityPercent: 50, altitudeM: 300 };
       const res = await c.post('z-factor', { waterTemperatureC: 20, airConditions }).expect(400);
-      expect(res.body.errors).toEqual([{ field: 'airConditions', reason: expect.stringContaining('"altitudeM"') }]);
+      expect(res.body.errors).toEqual([{ field: 'airConditions.altitudeM', reason: 'is not a known field' }]);
     });
 
     it('for a JSON number too large for binary64 (1e309 parses to Infinity)', async () => {

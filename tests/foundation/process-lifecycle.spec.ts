@@ -83,6 +83,13 @@ describe('the service process', () => {
     const svc = await startService(dataDir, await freePort());
     const ready = await fetch(`http://127.0.0.1:${svc.port}/health/ready`);
     expect(ready.status).toBe(200);
+    // A request that reads a table as the runtime role: a fresh data folder must grant it rights.
+    const signIn = await fetch(`http://127.0.0.1:${svc.port}/v1/sessions`, {
+      method: 'POST',
+      headers: { 'content-type': 'application/json' },
+      body: JSON.stringify({ email: 'nobody@waterworks.example', password: 'not-a-real-password-1' }),
+    });
+    expect(signIn.status).toBe(401);
     const readyLine = svc.lines.find((l) => String(l.msg).startsWith('Calibration registry ready'));
     expect(readyLine?.msg).toContain(`http://localhost:${svc.port}`);
     expect(readyLine?.msg).toContain(dataDir);

@@ -41,7 +41,7 @@ describe('labs and their members', () => {
     [{ ...teaching, code: 'X' }, 'code'],
     [{ ...teaching, timeZone: 'Mars/Olympus_Mons' }, 'timeZone'],
     [{ ...teaching, timeZone: 'europe/vienna' }, 'timeZone'],
-    [{ ...teaching, owner: 'me' }, '(body)'],
+    [{ ...teaching, owner: 'me' }, 'owner'],
   ])('refuses %p with 400 naming %s', async (body, field) => {
     const res = await as(cast.tokens.admin).post('/v1/labs', body).expect(400);
     expect(res.body.errors.map((e: { field: string }) => e.field)).toContain(field);

@@ -65,7 +65,7 @@ describe('service credentials', () => {
     [{ name: 'x', scopes: ['factors:read', 'factors:read'], labIds: 'all' }, 'scopes'],
     [{ name: 'x', scopes: ['factors:read'], labIds: [] }, 'labIds'],
     [{ name: 'x', scopes: ['factors:read'], labIds: ['00000000-0000-4000-8000-000000000000'] }, 'labIds'],
-    [{ name: 'x', scopes: ['factors:read'], labIds: 'all', secret: 'mine' }, '(body)'],
+    [{ name: 'x', scopes: ['factors:read'], labIds: 'all', secret: 'mine' }, 'secret'],
   ])('refuses %p with 400 naming %s', async (body, field) => {
     const res = await as(cast.tokens.admin).post('/v1/service-credentials', body).expect(400);
     expect(res.body.errors.map((e: { field: string }) => e.field)).toContain(field);

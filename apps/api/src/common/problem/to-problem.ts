@@ -75,7 +75,13 @@ function classify(error: unknown): Classified {
 }
 
 export function fromZod(error: ZodError): Classified {
-  const errors = error.issues.map((issue) => ({ field: issue.path.map(String).join('.') || '(body)', reason: issue.message }));
+  const errors = error.issues.flatMap((issue) => {
+    const base = issue.path.map(String);
+    // One entry per unknown member, at its own path, so a client sees exactly what to remove.
+    if (issue.code === 'unrecognized_keys')
+      return issue.keys.map((key) => ({ field: [...base, key].join('.'), reason: 'is not a known field' }));
+    return [{ field: base.join('.') || '(body)', reason: issue.message }];
+  });
   return { code: 'validation-failed', detail: `${errors.length} field(s) failed validation.`, errors };
 }
 
