@@ -11,6 +11,7 @@ import { requestIdFor } from './common/http/request-id';
 import { RequestLogController } from './common/http/request-logging';
 import type { AppConfig } from './config/config.schema';
 import { buildOpenApiDocument, mountDocs } from './docs/openapi';
+import { registerCsvBody } from './inventory/csv-body';
 import { PinoNestLogger } from './logging';
 import { HttpMetrics } from './metrics/metrics';
 
@@ -48,6 +49,7 @@ export async function createApp({ config, database, logger, clock }: CreateAppOp
   );
   const fastify = app.getHttpAdapter().getInstance() as unknown as FastifyInstance;
   registerResponseHeaders(fastify);
+  registerCsvBody(fastify);
   metrics.register(fastify);
   if (config.http.corsOrigins.length > 0) {
     app.enableCors({ origin: config.http.corsOrigins, exposedHeaders: ['etag', 'x-request-id', 'location', 'retry-after'] });

@@ -17,6 +17,7 @@ import { ProblemFilter } from './common/problem/problem.filter';
 import { ProblemTypesController } from './common/problem/problem-types.controller';
 import { RegistryValidationPipe } from './common/validation';
 import { HealthController } from './health/health.controller';
+import { InventoryModule } from './inventory/inventory.module';
 import { LabsModule } from './labs/labs.module';
 import { HttpMetrics } from './metrics/metrics';
 import { MetricsController } from './metrics/metrics.controller';
@@ -48,7 +49,16 @@ export class AppModule {
     ];
     return {
       module: AppModule,
-      imports: [AuditTrailModule, CalculationsModule, ReferenceModule, SessionsModule, PeopleModule, LabsModule, CredentialsModule],
+      imports: [
+        AuditTrailModule,
+        CalculationsModule,
+        ReferenceModule,
+        SessionsModule,
+        PeopleModule,
+        LabsModule,
+        CredentialsModule,
+        InventoryModule,
+      ],
       controllers: [HealthController, MetricsController, ProblemTypesController, MeController],
       providers: [
         ...infrastructure,
