@@ -58,11 +58,11 @@ describe('audit trail endpoints', () => {
     const seen: number[] = [];
     let cursor: string | null = null;
     do {
-      const res = await t.http
+      const res: { body: { items: { seq: number }[]; nextCursor: string | null } } = await t.http
         .get(`/v1/audit-trail?entityType=vessel&limit=3${cursor ? `&cursor=${cursor}` : ''}`)
         .set(bearer(cast.tokens.auditor))
         .expect(200);
-      seen.push(...res.body.items.map((e: { seq: number }) => e.seq));
+      seen.push(...res.body.items.map((e) => e.seq));
       cursor = res.body.nextCursor;
     } while (cursor);
     expect(seen).toHaveLength(7);

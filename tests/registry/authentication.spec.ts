@@ -86,3 +86,23 @@ describe('bearer authentication', () => {
     await t.http.get('/problems').expect(200);
   });
 });
+
+describe('a one-time password', () => {
+  let t: TestApp;
+  beforeAll(async () => {
+    t = await startTestApp();
+  });
+  afterAll(() => t.close());
+
+  it('opens only the password change, sign-out and who-am-I until it is replaced', async () => {
+    const person = await seedPerson(t.database.prisma);
+    await t.database.prisma.person.update({ where: { id: person.id }, data: { mustChangePassword: true } });
+    const token = await sessionFor(t.database.prisma, person.id);
+    const me = await t.http.get('/v1/me').set(bearer(token)).expect(200);
+    expect(me.body.mustChangePassword).toBe(true);
+    const refused = await t.http.get('/v1/labs').set(bearer(token)).expect(403);
+    expect(refused.body).toMatchObject({ code: 'password-change-required', type: '/problems/password-change-required' });
+    await t.database.prisma.person.update({ where: { id: person.id }, data: { mustChangePassword: false } });
+    await t.http.get('/v1/labs').set(bearer(token)).expect(200);
+  });
+});

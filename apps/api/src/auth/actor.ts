@@ -19,6 +19,8 @@ export interface PersonActor {
   /** Lab id → the person's role there. */
   readonly labs: ReadonlyMap<string, LabRole>;
   readonly sessionId: string;
+  /** Signed in with a one-time password: only the password change is open until it is replaced. */
+  readonly mustChangePassword: boolean;
 }
 
 export interface CredentialActor {

@@ -6,6 +6,7 @@ import type { RequestContext, Scope } from './actor';
 
 export const PUBLIC_ROUTE = 'registry:public';
 export const CREDENTIAL_SCOPES = 'registry:credential-scopes';
+export const OPEN_DURING_PASSWORD_CHANGE = 'registry:open-during-password-change';
 
 /** No sign-in needed (health, docs, sign-in itself). */
 export const Public = () => SetMetadata(PUBLIC_ROUTE, true);
@@ -15,6 +16,9 @@ export const Public = () => SetMetadata(PUBLIC_ROUTE, true);
  * Routes without it are for signed-in people only.
  */
 export const CredentialScopes = (...scopes: Scope[]) => applyDecorators(SetMetadata(CREDENTIAL_SCOPES, scopes), ApiBearerAuth());
+
+/** Reachable while the person still has to replace a one-time password (sign-out, password change, who am I). */
+export const OpenDuringPasswordChange = () => SetMetadata(OPEN_DURING_PASSWORD_CHANGE, true);
 
 /** Signed-in people only (the default); documents the bearer requirement. */
 export const PeopleOnly = () => ApiBearerAuth();

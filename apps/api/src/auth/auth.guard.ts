@@ -3,7 +3,7 @@ import { Reflector } from '@nestjs/core';
 
 import { DomainError } from '../common/problem/domain-error';
 import type { Scope } from './actor';
-import { type ContextualRequest, CREDENTIAL_SCOPES, PUBLIC_ROUTE } from './auth.decorators';
+import { type ContextualRequest, CREDENTIAL_SCOPES, OPEN_DURING_PASSWORD_CHANGE, PUBLIC_ROUTE } from './auth.decorators';
 import { Authenticator } from './authenticator';
 import { parseBearer } from './tokens';
 
@@ -44,6 +44,13 @@ export class AuthGuard implements CanActivate {
           allowed.length ? `This credential lacks the scope (${allowed.join(' or ')}).` : 'Service credentials cannot use this route.',
         );
       }
+    }
+    if (
+      actor.kind === 'person' &&
+      actor.mustChangePassword &&
+      !this.reflector.getAllAndOverride<boolean>(OPEN_DURING_PASSWORD_CHANGE, targets)
+    ) {
+      throw new DomainError('password-change-required', 'Replace your one-time password first: POST /v1/me/password.');
     }
     request.registryContext = { actor, requestId: String(request.id), clientAddress: request.ip };
     return true;

@@ -46,6 +46,7 @@ export class Authenticator {
       registryRole: person.registryRole as RegistryRole | null,
       labs: new Map(person.memberships.map((m) => [m.labId, m.labRole as LabRole])),
       sessionId: session.id,
+      mustChangePassword: person.mustChangePassword,
     };
   }
 

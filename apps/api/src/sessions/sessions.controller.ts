@@ -3,7 +3,7 @@ import { ApiOperation, ApiResponse, ApiTags } from '@nestjs/swagger';
 import { ZodResponse } from 'nestjs-zod';
 
 import type { RequestContext } from '../auth/actor';
-import { Ctx, PeopleOnly, Public } from '../auth/auth.decorators';
+import { Ctx, OpenDuringPasswordChange, PeopleOnly, Public } from '../auth/auth.decorators';
 import { type Caller, CallerInfo } from './caller.decorator';
 import { ChangePasswordDto, SignedInDto, SignInDto } from './sessions.schemas';
 import { SessionsService } from './sessions.service';
@@ -33,6 +33,7 @@ export class SessionsController {
   }
 
   @Delete('sessions/current')
+  @OpenDuringPasswordChange()
   @PeopleOnly()
   @HttpCode(204)
   @ApiOperation({ summary: 'Sign out: the token stops working at once' })
@@ -41,6 +42,7 @@ export class SessionsController {
   }
 
   @Post('me/password')
+  @OpenDuringPasswordChange()
   @PeopleOnly()
   @HttpCode(204)
   @ApiOperation({

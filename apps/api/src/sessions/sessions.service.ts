@@ -116,6 +116,7 @@ function personContext(person: SignInCandidate, sessionId: string, caller: Calle
     registryRole: person.registryRole as RegistryRole | null,
     labs: new Map(),
     sessionId,
+    mustChangePassword: person.mustChangePassword,
   };
   return { actor, requestId: caller.requestId, clientAddress: caller.clientAddress };
 }

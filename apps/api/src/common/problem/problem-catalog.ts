@@ -15,6 +15,11 @@ export const PROBLEM_CATALOG = {
     title: 'Sign-in required',
     description: 'The request carries no valid bearer token or service credential.',
   },
+  'password-change-required': {
+    status: 403,
+    title: 'Password change required',
+    description: 'You signed in with a one-time password; replace it with POST /v1/me/password before anything else.',
+  },
   forbidden: { status: 403, title: 'Not allowed', description: 'The caller is known but may not do this.' },
   'not-found': { status: 404, title: 'Not found', description: 'No such resource, or not visible to the caller.' },
   'route-not-found': { status: 404, title: 'No such route', description: 'No endpoint matches this method and path; see /docs.' },
