@@ -115,6 +115,7 @@ describe('inventory lists', () => {
     'kind=beaker',
     'dueBefore=2026-01-01',
     'unknown=1',
+    'q=%00',
   ])('refuses %s with 400', async (query) => {
     const res = await get(`/v1/vessels?${query}`).expect(400);
     expect(res.body.code).toBe('validation-failed');

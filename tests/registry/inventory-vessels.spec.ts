@@ -133,6 +133,7 @@ describe('vessels', () => {
       await create(pipette({ nominalVolumeMl: '1e9' })).expect(400);
       await create(pipette({ nominalVolumeMl: -25 })).expect(400);
       await create(pipette({ assetTag: 'has space' })).expect(400);
+      await create(pipette({ notes: 'NUL \u0000 inside' })).expect(400);
     });
 
     it('answers 409 naming the asset tag when it is taken', async () => {

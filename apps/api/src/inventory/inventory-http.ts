@@ -67,7 +67,7 @@ export const InventoryUpdate = () =>
   applyDecorators(
     PeopleOnly(),
     UseInterceptors(ItemHeadersInterceptor),
-    ApiHeader({ name: 'If-Match', required: true, description: 'The ETag from your last read, e.g. "v3"', example: '"v1"' }),
+    ApiHeader({ name: 'if-match', required: true, description: 'The ETag from your last read, e.g. "v3"', example: '"v1"' }),
     ApiResponse({
       status: 400,
       description: 'validation-failed: unknown or read-only members (labId, version, id, timestamps), or a missing reason',

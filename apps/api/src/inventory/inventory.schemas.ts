@@ -28,6 +28,10 @@ export const assetTagSchema = z
   })
   .meta({ description: 'The label on the item, unique in the registry', example: 'VF-100-017' });
 
+/** Control characters other than tab and line breaks (PostgreSQL refuses NUL in text outright). */
+const CONTROL = /[\u0000-\u0008\u000B\u000C\u000E-\u001F\u007F]/;
+export const noControl = { error: 'must not contain control characters' };
+
 /** A trimmed, non-empty text; send null in a PATCH to clear it. */
 export const text = (max: number, description: string, example?: string) =>
   z
@@ -35,6 +39,7 @@ export const text = (max: number, description: string, example?: string) =>
     .trim()
     .min(1, { error: 'must not be empty (send null to clear it)' })
     .max(max, { error: `must be at most ${max} characters` })
+    .refine((s) => !CONTROL.test(s), noControl)
     .meta({ description, ...(example === undefined ? {} : { example }) });
 
 export const makerSerialSchema = text(100, "Maker's serial or batch number", '21.04-1187');
@@ -112,6 +117,7 @@ export function listQuerySchema<const S extends readonly [string, ...string[]]>(
       .trim()
       .min(1)
       .max(100)
+      .refine((s) => !CONTROL.test(s), noControl)
       .optional()
       .meta({ description: 'Case-insensitive text search in asset tag, maker serial and location', example: 'PIP-25' }),
     sort: z
