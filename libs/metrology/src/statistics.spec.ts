@@ -65,7 +65,11 @@ describe('replicate statistics', () => {
           const scaled = sampleStandardDeviation(xs.map((x) => new Decimal(x).times(k)));
           const shifted = sampleStandardDeviation(xs.map((x) => x + shift));
           // 34 significant digits: compare relatively (1e-30 of the magnitude), not absolutely.
-          const close = (a: Decimal, b: Decimal) => a.minus(b).abs().lte(Decimal.max(a.abs(), b.abs(), 1).times('1e-30'));
+          const close = (a: Decimal, b: Decimal) =>
+            a
+              .minus(b)
+              .abs()
+              .lte(Decimal.max(a.abs(), b.abs(), 1).times('1e-30'));
           return close(scaled, s.times(Math.abs(k))) && close(shifted, s);
         },
       ),
