@@ -14,3 +14,4 @@ export * from './uncertainty';
 export * from './volume-uncertainty';
 export * from './monte-carlo';
 export * from './gravimetric-run';
+export * from './version';
