@@ -1,0 +1,147 @@
+import { Injectable } from '@nestjs/common';
+import type { Prisma } from '@registry/data';
+import { Decimal } from '@registry/metrology';
+
+import { AuditWriter } from '../audit/audit-writer';
+import type { AuditContext } from '../auth/actor';
+
+/** One calibrated point of an approved calibration, as the factor needs it. */
+export interface CalibratedPoint {
+  /** The volume the point was tested at (the nominal volume for one-mark ware). */
+  readonly nominalVolumeMl: string;
+  /** Mean volume at the reference temperature. */
+  readonly meanVolumeMl: string;
+  readonly expandedUncertaintyMl: string;
+  readonly coverageFactor: string;
+}
+
+export interface ApprovedCalibration {
+  readonly id: string;
+  readonly labId: string;
+  readonly vesselId: string;
+  readonly performerId: string;
+  readonly performedAt: Date;
+  /** One point for one-mark ware; two or more for graduated ware (a curve). */
+  readonly points: readonly CalibratedPoint[];
+  readonly referenceTemperatureC?: string;
+}
+
+export interface IssuedFactor {
+  readonly factorId: string;
+  /** The factor it replaced as current, if any. */
+  readonly supersededId: string | null;
+  /** False when a newer calibration's factor is already current: this one goes straight to history. */
+  readonly current: boolean;
+}
+
+const DAY_MS = 86_400_000;
+
+/**
+ * Turns an approved calibration into the performer's factor for that vessel,
+ * inside the approval's transaction. Approvals for the same person and vessel
+ * are serialised by an advisory lock; the newest calibration (by performance
+ * time) stays current whatever the order of approval, and the one it replaces
+ * is kept as history.
+ */
+@Injectable()
+export class FactorIssuer {
+  constructor(private readonly audit: AuditWriter) {}
+
+  async issue(tx: Prisma.TransactionClient, ctx: AuditContext, cal: ApprovedCalibration, validityDays: number): Promise<IssuedFactor> {
+    await tx.$executeRaw`SELECT pg_advisory_xact_lock(hashtextextended(${`factor:${cal.performerId}:${cal.vesselId}`}, 0))`;
+    const current = await tx.factor.findFirst({ where: { personId: cal.performerId, vesselId: cal.vesselId, state: 'current' } });
+    const becomesCurrent = !current || current.validFrom.getTime() <= cal.performedAt.getTime();
+    const now = new Date();
+    const values = factorValues(cal.points);
+    const created = await tx.factor.create({
+      data: {
+        labId: cal.labId,
+        personId: cal.performerId,
+        vesselId: cal.vesselId,
+        calibrationId: cal.id,
+        ...values,
+        referenceTemperatureC: cal.referenceTemperatureC ?? '20',
+        validFrom: cal.performedAt,
+        validUntil: new Date(cal.performedAt.getTime() + validityDays * DAY_MS),
+        state: becomesCurrent ? 'current' : 'superseded',
+        endedAt: becomesCurrent ? null : now,
+        supersededById: becomesCurrent ? null : (current?.id ?? null),
+      },
+    });
+    if (becomesCurrent && current) {
+      await tx.factor.update({ where: { id: current.id }, data: { state: 'superseded', endedAt: now, supersededById: created.id } });
+      await this.audit.record(tx, ctx, {
+        action: 'supersede',
+        entityType: 'factor',
+        entityId: current.id,
+        labId: cal.labId,
+        oldValues: { state: 'current' },
+        newValues: { state: 'superseded', supersededById: created.id },
+      });
+    }
+    await this.audit.record(tx, ctx, {
+      action: 'create',
+      entityType: 'factor',
+      entityId: created.id,
+      labId: cal.labId,
+      newValues: created,
+    });
+    return { factorId: created.id, supersededId: becomesCurrent ? (current?.id ?? null) : null, current: becomesCurrent };
+  }
+
+  /** Ends the factor of a calibration that was voided; the person then has no current factor from it. */
+  async withdrawForCalibration(
+    tx: Prisma.TransactionClient,
+    ctx: AuditContext,
+    calibrationId: string,
+    reason: string,
+  ): Promise<string | null> {
+    const factor = await tx.factor.findUnique({ where: { calibrationId } });
+    if (!factor || factor.state !== 'current') return null;
+    await tx.factor.update({ where: { id: factor.id }, data: { state: 'withdrawn', endedAt: new Date() } });
+    await this.audit.record(tx, ctx, {
+      action: 'withdraw',
+      entityType: 'factor',
+      entityId: factor.id,
+      labId: factor.labId,
+      oldValues: { state: 'current' },
+      newValues: { state: 'withdrawn' },
+      reason,
+    });
+    return factor.id;
+  }
+}
+
+/** Single factor (ratio and correction) for one point; a curve for several. */
+export function factorValues(points: readonly CalibratedPoint[]) {
+  if (points.length === 0) throw new Error('an approved calibration has at least one point');
+  const sorted = [...points].sort((a, b) => new Decimal(a.nominalVolumeMl).comparedTo(new Decimal(b.nominalVolumeMl)));
+  const largest = sorted[sorted.length - 1] as CalibratedPoint;
+  const nominal = new Decimal(largest.nominalVolumeMl);
+  const mean = new Decimal(largest.meanVolumeMl);
+  const worstU = Decimal.max(...sorted.map((p) => new Decimal(p.expandedUncertaintyMl)));
+  const k = Decimal.max(...sorted.map((p) => new Decimal(p.coverageFactor)));
+  if (sorted.length === 1) {
+    return {
+      kind: 'single',
+      factor: mean.div(nominal).toSignificantDigits(15).toString(),
+      correctionMl: mean.minus(nominal).toString(),
+      curve: undefined,
+      expandedUncertaintyMl: worstU.toString(),
+      coverageFactor: k.toString(),
+    } as const;
+  }
+  return {
+    kind: 'curve',
+    factor: mean.div(nominal).toSignificantDigits(15).toString(),
+    correctionMl: null,
+    curve: sorted.map((p) => ({
+      nominalVolumeMl: p.nominalVolumeMl,
+      meanVolumeMl: p.meanVolumeMl,
+      correctionMl: new Decimal(p.meanVolumeMl).minus(p.nominalVolumeMl).toString(),
+      expandedUncertaintyMl: p.expandedUncertaintyMl,
+    })),
+    expandedUncertaintyMl: worstU.toString(),
+    coverageFactor: k.toString(),
+  } as const;
+}
