@@ -9,6 +9,7 @@ import { DomainError } from '../apps/api/src/common/problem/domain-error';
 import { ConfigError, parseConfig } from '../apps/api/src/config/config.schema';
 import { createAdministrator } from '../apps/api/src/people/first-administrator';
 import { createPersonSchema } from '../apps/api/src/people/people.schemas';
+import { databaseServerOptions } from '../apps/api/src/config/database-server-options';
 
 const USAGE = 'Usage: npm run admin:create -- --email <email> --name "<display name>"';
 
@@ -24,13 +25,7 @@ async function main(): Promise<void> {
     process.exit(2);
   }
   const config = parseConfig(process.env);
-  const server = await openDatabaseServer({
-    ...(config.database.url ? { url: config.database.url } : {}),
-    ...(config.database.migrationUrl ? { migrationUrl: config.database.migrationUrl } : {}),
-    dataDir: config.database.dataDir,
-    embeddedPort: config.database.embeddedPort,
-    log: (m) => console.error(m),
-  });
+  const server = await openDatabaseServer(databaseServerOptions(config, (m) => console.error(m)));
   const database = createDatabase({ databaseUrl: server.url, poolMax: 2 });
   try {
     const { person, initialPassword } = await createAdministrator(database.prisma, input, new SystemClock().now());

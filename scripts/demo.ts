@@ -8,6 +8,7 @@ import { ConfigError, parseConfig } from '../apps/api/src/config/config.schema';
 import { hashPassword, newInitialPassword } from '../apps/api/src/sessions/password-hashing';
 import { resolveVessel } from '../apps/api/src/vessels/vessel-rules';
 import { DEMO_BALANCES, DEMO_INSTRUMENTS, DEMO_LABS, DEMO_PEOPLE, DEMO_VESSELS, DEMO_WEIGHTS, type DemoVessel } from './demo/scenario';
+import { databaseServerOptions } from '../apps/api/src/config/database-server-options';
 
 const DAY_MS = 86_400_000;
 const ctx: SystemContext = { actor: { kind: 'system' }, requestId: 'demo-data' };
@@ -19,13 +20,7 @@ const ctx: SystemContext = { actor: { kind: 'system' }, requestId: 'demo-data' }
  */
 async function main(): Promise<void> {
   const config = parseConfig(process.env);
-  const server = await openDatabaseServer({
-    ...(config.database.url ? { url: config.database.url } : {}),
-    ...(config.database.migrationUrl ? { migrationUrl: config.database.migrationUrl } : {}),
-    dataDir: config.database.dataDir,
-    embeddedPort: config.database.embeddedPort,
-    log: (m) => console.error(m),
-  });
+  const server = await openDatabaseServer(databaseServerOptions(config, (m) => console.error(m)));
   const database = createDatabase({ databaseUrl: server.url, poolMax: 2 });
   try {
     if (await database.prisma.lab.findUnique({ where: { code: DEMO_LABS[0].code } })) {

@@ -6,6 +6,7 @@ import { createApp } from './app.factory';
 import { ConfigError, parseConfig } from './config/config.schema';
 import { createLogger } from './logging';
 import { installShutdown } from './shutdown';
+import { databaseServerOptions } from './config/database-server-options';
 
 async function main(): Promise<void> {
   let config;
@@ -21,13 +22,7 @@ async function main(): Promise<void> {
   const logger = createLogger(config);
   const started = Date.now();
 
-  const server = await openDatabaseServer({
-    ...(config.database.url ? { url: config.database.url } : {}),
-    ...(config.database.migrationUrl ? { migrationUrl: config.database.migrationUrl } : {}),
-    dataDir: config.database.dataDir,
-    embeddedPort: config.database.embeddedPort,
-    log: (message) => logger.info(message),
-  });
+  const server = await openDatabaseServer(databaseServerOptions(config, (message) => logger.info(message)));
   const database = createDatabase({
     databaseUrl: server.url,
     poolMax: config.database.poolMax,
