@@ -21,6 +21,12 @@ export const PROBLEM_CATALOG = {
     description: 'You signed in with a one-time password; replace it with POST /v1/me/password before anything else.',
   },
   forbidden: { status: 403, title: 'Not allowed', description: 'The caller is known but may not do this.' },
+  'four-eyes': {
+    status: 403,
+    title: 'A second person must review',
+    description:
+      'The lab requires that a calibration is approved or returned by someone other than the person who performed or entered it.',
+  },
   'not-found': { status: 404, title: 'Not found', description: 'No such resource, or not visible to the caller.' },
   'route-not-found': { status: 404, title: 'No such route', description: 'No endpoint matches this method and path; see /docs.' },
   'method-not-allowed': { status: 405, title: 'Method not allowed', description: 'The path exists but not for this method.' },
@@ -28,6 +34,12 @@ export const PROBLEM_CATALOG = {
     status: 409,
     title: 'Conflict with the current state',
     description: 'The request conflicts with existing data (for example a duplicate identifier).',
+  },
+  'invalid-state': {
+    status: 409,
+    title: 'Not allowed in the record’s current state',
+    description:
+      'The record’s state does not allow this action (for example a calibration that was submitted can no longer be edited); `state` names the current one.',
   },
   'precondition-failed': {
     status: 412,
@@ -40,6 +52,12 @@ export const PROBLEM_CATALOG = {
     status: 422,
     title: 'A quantity is outside what the method allows',
     description: 'A value is impossible or outside the validity range of the published method; see `errors`.',
+  },
+  'traceability-violation': {
+    status: 422,
+    title: 'Traceability rules are not met',
+    description:
+      'An instrument or item used was not fit for use at the time of the work; `violations` lists each rule broken as { rule, itemId, detail, exceptionAllowed }.',
   },
   'precondition-required': {
     status: 428,
