@@ -59,6 +59,30 @@ export const PROBLEM_CATALOG = {
     description:
       'An instrument or item used was not fit for use at the time of the work; `violations` lists each rule broken as { rule, itemId, detail, exceptionAllowed }.',
   },
+  'no-factor': {
+    status: 404,
+    title: 'No factor on record',
+    description:
+      'The person has no calibration on record for this vessel (or none was in force at the instant asked). Ask for the nominal fallback explicitly if a nominal value will do.',
+  },
+  'factor-expired': {
+    status: 409,
+    title: 'The factor has expired',
+    description:
+      'The person’s factor for this vessel is past its validity (`validUntil` says when it ended): the vessel must be recalibrated by that person before the factor is used again.',
+  },
+  'vessel-not-in-service': {
+    status: 409,
+    title: 'The vessel is not in service',
+    description:
+      'The vessel is quarantined or retired (`vesselStatus`): none of its factors may be used, and no nominal fallback is given.',
+  },
+  'person-not-member': {
+    status: 422,
+    title: 'The person is not a member of the vessel’s lab',
+    description:
+      'The person named (by id, email or the lab’s external reference) is not a member of the lab that owns the vessel, so no factor of theirs can apply to it.',
+  },
   'precondition-required': {
     status: 428,
     title: 'If-Match required',
