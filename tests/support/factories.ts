@@ -152,3 +152,77 @@ export async function seedInstrument(prisma: PrismaClient, labId: string, overri
     data: { labId, assetTag: `TH-${unique()}`, kind: 'thermometer', ...overrides } as CreateInput<'Instrument'>,
   });
 }
+
+export interface SeedFactor {
+  readonly labId: string;
+  readonly personId: string;
+  readonly vesselId: string;
+  readonly kind?: 'single' | 'curve';
+  readonly factor?: string;
+  readonly correctionMl?: string | null;
+  /** Curve points, ascending: { nominalVolumeMl, meanVolumeMl, correctionMl, expandedUncertaintyMl } as decimal strings. */
+  readonly curve?: readonly Record<'nominalVolumeMl' | 'meanVolumeMl' | 'correctionMl' | 'expandedUncertaintyMl', string>[];
+  readonly expandedUncertaintyMl?: string;
+  readonly coverageFactor?: string;
+  readonly validFrom?: Date;
+  readonly validUntil?: Date;
+  readonly state?: 'current' | 'superseded' | 'withdrawn';
+  readonly endedAt?: Date | null;
+  readonly createdAt?: Date;
+  readonly reviewRequiredAt?: Date | null;
+  readonly reviewReason?: string | null;
+}
+
+/**
+ * A personal factor with the approved calibration it must come from (composite key:
+ * same performer and vessel), a balance and a thermometer. Defaults: a single factor
+ * 0.9996 (25 mL → 24.99 mL), U = 0.012 mL, k = 2, valid for a year from 30 days ago.
+ */
+export async function seedFactor(prisma: PrismaClient, f: SeedFactor) {
+  const validFrom = f.validFrom ?? new Date(Date.now() - 30 * 86_400_000);
+  const balance = await seedBalance(prisma, f.labId);
+  const thermometer = await seedInstrument(prisma, f.labId);
+  const calibration = await prisma.calibration.create({
+    data: {
+      labId: f.labId,
+      vesselId: f.vesselId,
+      performerId: f.personId,
+      enteredById: f.personId,
+      balanceId: balance.id,
+      thermometerId: thermometer.id,
+      state: 'approved',
+      performedAt: validFrom,
+      deliveryMode: 'deliver',
+      inputs: { points: [] },
+      results: { points: [] },
+      verdict: 'pass',
+      libraryVersion: 'test',
+      submittedAt: validFrom,
+      reviewerId: f.personId,
+      reviewedAt: validFrom,
+    },
+  });
+  const curve = f.kind === 'curve';
+  const state = f.state ?? 'current';
+  return prisma.factor.create({
+    data: {
+      labId: f.labId,
+      personId: f.personId,
+      vesselId: f.vesselId,
+      calibrationId: calibration.id,
+      kind: f.kind ?? 'single',
+      factor: f.factor ?? '0.9996',
+      correctionMl: curve ? null : f.correctionMl === undefined ? '-0.01' : f.correctionMl,
+      ...(curve ? { curve: f.curve as object[] } : {}),
+      expandedUncertaintyMl: f.expandedUncertaintyMl ?? '0.012',
+      coverageFactor: f.coverageFactor ?? '2',
+      validFrom,
+      validUntil: f.validUntil ?? new Date(validFrom.getTime() + 365 * 86_400_000),
+      state,
+      endedAt: state === 'current' ? null : (f.endedAt ?? new Date()),
+      reviewRequiredAt: f.reviewRequiredAt ?? null,
+      reviewReason: f.reviewReason ?? null,
+      ...(f.createdAt ? { createdAt: f.createdAt } : {}),
+    },
+  });
+}

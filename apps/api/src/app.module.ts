@@ -12,6 +12,7 @@ import { MeController } from './auth/me.controller';
 import { CalculationsModule } from './calculations/calculations.module';
 import { Clock, SystemClock } from './common/clock';
 import { CredentialsModule } from './credentials/credentials.module';
+import { FactorsModule } from './factors/factors.module';
 import { APP_CONFIG, type AppConfig } from './config/config.schema';
 import { ProblemFilter } from './common/problem/problem.filter';
 import { ProblemTypesController } from './common/problem/problem-types.controller';
@@ -58,6 +59,7 @@ export class AppModule {
         LabsModule,
         CredentialsModule,
         InventoryModule,
+        FactorsModule,
       ],
       controllers: [HealthController, MetricsController, ProblemTypesController, MeController],
       providers: [
