@@ -226,3 +226,132 @@ export async function seedFactor(prisma: PrismaClient, f: SeedFactor) {
     },
   });
 }
+
+/** A class E2 check weight with its certificate (demo tags CW-E2-nnn): 100 g, conventional mass 100.000045 g, U = 0.05 mg, due in a year. */
+export async function seedCheckWeight(prisma: PrismaClient, labId: string, overrides: Partial<CreateInput<'ReferenceWeight'>> = {}) {
+  return seedReferenceWeight(prisma, labId, {
+    assetTag: `CW-E2-${unique()}`,
+    oimlClass: 'E2',
+    conventionalMassG: '100.000045',
+    uncertaintyG: '0.00005',
+    certificateNumber: 'MW-2026-0331',
+    certificateDue: new Date(Date.now() + 365 * 86_400_000),
+    ...overrides,
+  });
+}
+
+export interface SeedCalibrationUsing {
+  readonly labId: string;
+  readonly vesselId: string;
+  readonly performerId: string;
+  readonly balanceId: string;
+  readonly thermometerId: string;
+  readonly performedAt: Date;
+  readonly state?: 'draft' | 'submitted' | 'approved' | 'returned' | 'voided';
+  /** Reviewer of an approved calibration, or who voided a voided one. */
+  readonly reviewerId?: string;
+}
+
+/** A calibration row naming this balance and thermometer, in any state, straight into the database (inputs and results are placeholders). */
+export async function seedCalibrationUsing(prisma: PrismaClient, c: SeedCalibrationUsing) {
+  const state = c.state ?? 'approved';
+  const frozen = state !== 'draft' && state !== 'returned';
+  const reviewer = c.reviewerId ?? c.performerId;
+  return prisma.calibration.create({
+    data: {
+      labId: c.labId,
+      vesselId: c.vesselId,
+      performerId: c.performerId,
+      enteredById: c.performerId,
+      balanceId: c.balanceId,
+      thermometerId: c.thermometerId,
+      state,
+      performedAt: c.performedAt,
+      deliveryMode: 'deliver',
+      inputs: { points: [] },
+      ...(frozen ? { results: { points: [] }, verdict: 'pass', libraryVersion: 'test', submittedAt: c.performedAt } : {}),
+      ...(state === 'approved' ? { reviewerId: reviewer, reviewedAt: c.performedAt } : {}),
+      ...(state === 'voided' ? { voidedById: reviewer, voidedAt: c.performedAt, voidReason: 'entered twice' } : {}),
+    },
+  });
+}
+
+/** The current single factor made from an approved calibration (its performer's, for its vessel). */
+export async function seedFactorFrom(
+  prisma: PrismaClient,
+  calibration: { id: string; labId: string; performerId: string; vesselId: string; performedAt: Date },
+  overrides: { reviewRequiredAt?: Date; reviewReason?: string } = {},
+) {
+  return prisma.factor.create({
+    data: {
+      labId: calibration.labId,
+      personId: calibration.performerId,
+      vesselId: calibration.vesselId,
+      calibrationId: calibration.id,
+      kind: 'single',
+      factor: '0.9996',
+      correctionMl: '-0.01',
+      expandedUncertaintyMl: '0.012',
+      coverageFactor: '2',
+      validFrom: calibration.performedAt,
+      validUntil: new Date(calibration.performedAt.getTime() + 365 * 86_400_000),
+      reviewRequiredAt: overrides.reviewRequiredAt ?? null,
+      reviewReason: overrides.reviewReason ?? null,
+    },
+  });
+}
+
+/** A routine check of a balance straight into the append-only balance_checks table; passing unless told otherwise. */
+export async function seedBalanceCheck(
+  prisma: PrismaClient,
+  balance: { id: string; labId: string },
+  performedById: string,
+  performedAt: Date,
+  options: { passed?: boolean; kind?: 'quick' | 'usp41' | 'eccentricity' } = {},
+) {
+  return prisma.balanceCheck.create({
+    data: {
+      labId: balance.labId,
+      balanceId: balance.id,
+      performedById,
+      performedAt,
+      kind: options.kind ?? 'quick',
+      inputs: { readingsG: ['100.0001'] },
+      results: { passed: options.passed ?? true },
+      passed: options.passed ?? true,
+      libraryVersion: 'test',
+    },
+  });
+}
+
+export const seedPassingBalanceCheck = (prisma: PrismaClient, balance: { id: string; labId: string }, by: string, at: Date) =>
+  seedBalanceCheck(prisma, balance, by, at, { passed: true });
+
+/**
+ * A balance and a thermometer fit for a calibration performed shortly after `checkedAt`: in
+ * service, calibrated until a year from now, and the balance checked (passing) at `checkedAt`.
+ */
+export async function seedTraceableInstruments(prisma: PrismaClient, labId: string, checkedById: string, checkedAt: Date) {
+  const inAYear = new Date(Date.now() + 365 * 86_400_000);
+  const balance = await seedBalance(prisma, labId, {
+    externalCalibrationDate: new Date(Date.now() - 30 * 86_400_000),
+    externalCalibrationDue: inAYear,
+    externalCalibrationCertificate: 'DAkkS-2026-0117',
+  });
+  const thermometer = await seedInstrument(prisma, labId, { calibrationDue: inAYear, temperatureUncertaintyK: '0.05' });
+  await seedPassingBalanceCheck(prisma, balance, checkedById, checkedAt);
+  return { balance, thermometer };
+}
+
+/** A class A 50 mL burette (ISO 385, ±0.05 mL at any point of the scale; demo tags BUR-50-nnn). */
+export async function seedBurette(prisma: PrismaClient, labId: string, overrides: Partial<CreateInput<'Vessel'>> = {}) {
+  return seedVessel(prisma, labId, {
+    assetTag: `BUR-50-${unique()}`,
+    kind: 'burette',
+    nominalVolumeMl: '50',
+    graduationIntervalMl: '0.1',
+    classStandard: 'ISO 385:2005',
+    limitMl: '0.05',
+    ...overrides,
+  });
+}

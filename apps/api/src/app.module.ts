@@ -9,6 +9,7 @@ import { AuditTrailModule } from './audit-trail/audit-trail.module';
 import { AuthGuard } from './auth/auth.guard';
 import { Authenticator } from './auth/authenticator';
 import { MeController } from './auth/me.controller';
+import { BalanceChecksModule } from './balance-checks/balance-checks.module';
 import { CalculationsModule } from './calculations/calculations.module';
 import { Clock, SystemClock } from './common/clock';
 import { CredentialsModule } from './credentials/credentials.module';
@@ -18,6 +19,7 @@ import { ProblemFilter } from './common/problem/problem.filter';
 import { ProblemTypesController } from './common/problem/problem-types.controller';
 import { RegistryValidationPipe } from './common/validation';
 import { HealthController } from './health/health.controller';
+import { ImpactModule } from './impact/impact.module';
 import { InventoryModule } from './inventory/inventory.module';
 import { LabsModule } from './labs/labs.module';
 import { HttpMetrics } from './metrics/metrics';
@@ -59,6 +61,8 @@ export class AppModule {
         LabsModule,
         CredentialsModule,
         InventoryModule,
+        BalanceChecksModule,
+        ImpactModule,
         FactorsModule,
       ],
       controllers: [HealthController, MetricsController, ProblemTypesController, MeController],
