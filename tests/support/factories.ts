@@ -355,3 +355,58 @@ export async function seedBurette(prisma: PrismaClient, labId: string, overrides
     ...overrides,
   });
 }
+
+/** A routine check of a balance straight into the append-only balance_checks table; passing unless told otherwise. */
+export async function seedBalanceCheck(
+  prisma: PrismaClient,
+  balance: { id: string; labId: string },
+  performedById: string,
+  performedAt: Date,
+  options: { passed?: boolean; kind?: 'quick' | 'usp41' | 'eccentricity' } = {},
+) {
+  return prisma.balanceCheck.create({
+    data: {
+      labId: balance.labId,
+      balanceId: balance.id,
+      performedById,
+      performedAt,
+      kind: options.kind ?? 'quick',
+      inputs: { readingsG: ['100.0001'] },
+      results: { passed: options.passed ?? true },
+      passed: options.passed ?? true,
+      libraryVersion: 'test',
+    },
+  });
+}
+
+export const seedPassingBalanceCheck = (prisma: PrismaClient, balance: { id: string; labId: string }, by: string, at: Date) =>
+  seedBalanceCheck(prisma, balance, by, at, { passed: true });
+
+/**
+ * A balance and a thermometer fit for a calibration performed shortly after `checkedAt`: in
+ * service, calibrated until a year from now, and the balance checked (passing) at `checkedAt`.
+ */
+export async function seedTraceableInstruments(prisma: PrismaClient, labId: string, checkedById: string, checkedAt: Date) {
+  const inAYear = new Date(Date.now() + 365 * 86_400_000);
+  const balance = await seedBalance(prisma, labId, {
+    externalCalibrationDate: new Date(Date.now() - 30 * 86_400_000),
+    externalCalibrationDue: inAYear,
+    externalCalibrationCertificate: 'DAkkS-2026-0117',
+  });
+  const thermometer = await seedInstrument(prisma, labId, { calibrationDue: inAYear, temperatureUncertaintyK: '0.05' });
+  await seedPassingBalanceCheck(prisma, balance, checkedById, checkedAt);
+  return { balance, thermometer };
+}
+
+/** A class A 50 mL burette (ISO 385, ±0.05 mL at any point of the scale; demo tags BUR-50-nnn). */
+export async function seedBurette(prisma: PrismaClient, labId: string, overrides: Partial<CreateInput<'Vessel'>> = {}) {
+  return seedVessel(prisma, labId, {
+    assetTag: `BUR-50-${unique()}`,
+    kind: 'burette',
+    nominalVolumeMl: '50',
+    graduationIntervalMl: '0.1',
+    classStandard: 'ISO 385:2005',
+    limitMl: '0.05',
+    ...overrides,
+  });
+}

@@ -10,6 +10,7 @@ import { AuthGuard } from './auth/auth.guard';
 import { Authenticator } from './auth/authenticator';
 import { MeController } from './auth/me.controller';
 import { BalanceChecksModule } from './balance-checks/balance-checks.module';
+import { CalibrationsModule } from './calibrations/calibrations.module';
 import { CalculationsModule } from './calculations/calculations.module';
 import { Clock, SystemClock } from './common/clock';
 import { CredentialsModule } from './credentials/credentials.module';
@@ -55,6 +56,7 @@ export class AppModule {
       imports: [
         AuditTrailModule,
         CalculationsModule,
+        CalibrationsModule,
         ReferenceModule,
         SessionsModule,
         PeopleModule,
