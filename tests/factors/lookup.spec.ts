@@ -6,7 +6,7 @@ import { daysAgo, daysAhead, factorScenario, type FactorScenario } from './scena
 describe('current factor lookup', () => {
   let t: TestApp;
   let s: FactorScenario;
-  const current = (query: Record<string, string>, key: string = s.keys.read) =>
+  const current = (query: Record<string, string | undefined>, key: string = s.keys.read) =>
     t.http.get('/v1/factors/current').query(query).set(bearer(key));
 
   beforeAll(async () => {
@@ -18,7 +18,7 @@ describe('current factor lookup', () => {
   it('finds the person’s own factor by ids, by asset tag and email, and by asset tag and the lab’s external reference', async () => {
     const { lena } = s.people;
     const { pipette } = s.vessels;
-    const forms = [
+    const forms: Record<string, string>[] = [
       { personId: lena.id, vesselId: pipette.id },
       { email: lena.email.toUpperCase(), assetTag: pipette.assetTag },
       { externalRef: 'DW-ANA-07', assetTag: pipette.assetTag },
