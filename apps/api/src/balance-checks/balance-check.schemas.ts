@@ -19,7 +19,7 @@ export const MAX_QUICK_READINGS = 10;
 /** Centre plus at most this many off-centre positions. */
 export const MAX_OFF_CENTRE_READINGS = 20;
 
-const uuid = z.uuid({ error: 'must be a UUID' });
+const uuid = z.uuid({ error: (issue) => (issue.input === undefined ? 'is required' : 'must be a UUID') });
 const referenceWeightId = uuid.meta({
   description: 'The check weight used: a reference weight of the balance’s lab, in service, its certificate not overdue',
   example: '7c0e9a52-3b1d-4f6e-8a2c-5d4e3f2a1b0c',

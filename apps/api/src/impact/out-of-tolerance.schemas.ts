@@ -1,18 +1,26 @@
 import { createZodDto } from 'nestjs-zod';
 import { z } from 'zod';
 
-import { ITEM_STATUSES, text } from '../inventory/inventory.schemas';
+import { ITEM_STATUSES, noControl } from '../inventory/inventory.schemas';
 import { ImpactSchema } from './impact.schemas';
+
+/** Control characters other than tab and line breaks (as the inventory texts refuse them). */
+const CONTROL = /[\u0000-\u0008\u000B\u000C\u000E-\u001F\u007F]/;
+/** A missing member reads "is required"; anything else gets `message`. */
+export const orRequired = (message: string) => (issue: { input?: unknown }) => (issue.input === undefined ? 'is required' : message);
 
 export const OutOfToleranceRequestSchema = z
   .strictObject({
     foundAt: z.iso
-      .datetime({ offset: true, error: 'must be an ISO 8601 date-time with a zone, e.g. 2026-03-02T10:30:00Z' })
+      .datetime({ offset: true, error: orRequired('must be an ISO 8601 date-time with a zone, e.g. 2026-03-02T10:30:00Z') })
       .meta({ description: 'When it was found out of tolerance (at most 5 minutes ahead of the server clock)' }),
-    reason: text(500, 'What was found: written to the instrument’s audit entry and to every factor marked for review').refine(
-      (s) => s.length >= 3,
-      { error: 'must be at least 3 characters' },
-    ),
+    reason: z
+      .string({ error: orRequired('must be a string') })
+      .trim()
+      .min(3, { error: 'must be at least 3 characters' })
+      .max(500, { error: 'must be at most 500 characters' })
+      .refine((s) => !CONTROL.test(s), noControl)
+      .meta({ description: 'What was found: written to the instrument’s audit entry and to every factor marked for review' }),
   })
   .meta({
     example: { foundAt: '2026-03-02T10:30:00Z', reason: 'Reads 0.4 K high against the reference thermometer at 20 °C (limit 0.1 K)' },
