@@ -36,6 +36,12 @@ export async function calibrationWorld(t: TestApp) {
 }
 export type CalibrationWorld = Awaited<ReturnType<typeof calibrationWorld>>;
 
+/** A create body for a run on a pipette of its own (a fresh 25 mL class A pipette of the lab). */
+export async function freshPipetteRun(w: CalibrationWorld, nets: readonly string[], extra: Record<string, unknown> = {}) {
+  const vessel = await seedVessel(w.prisma, w.cast.lab.id);
+  return pipetteRun(w, nets, { vesselId: vessel.id, ...extra });
+}
+
 export const hoursAgo = (hours: number) => new Date(Date.now() - hours * HOUR_MS);
 
 /** A create body for a one-mark pipette run, performed an hour ago. */

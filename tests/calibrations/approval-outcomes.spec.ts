@@ -1,0 +1,134 @@
+import { seedPerson, seedVessel, sessionFor } from '../support/factories';
+import { startTestApp, type TestApp } from '../support/test-app';
+import {
+  type CalibrationWorld,
+  calibrationsAs,
+  calibrationWorld,
+  createAndSubmit,
+  expectStatus,
+  hoursAgo,
+  pipetteRun,
+  resultsOf,
+} from './helpers';
+
+const PASSING = ['24.9400', '24.9450', '24.9500'];
+// 24.85 g × 1.0029 mL/g ≈ 24.922 mL: 0.078 mL short of 25 mL, beyond the ±0.03 mL of a class A pipette (ISO 648).
+const FAILING = ['24.8490', '24.8500', '24.8510'];
+
+describe('what approval and void do beyond the record', () => {
+  let t: TestApp;
+  let w: CalibrationWorld;
+  let analyst: ReturnType<typeof calibrationsAs>;
+  let colleague: ReturnType<typeof calibrationsAs>;
+  let colleagueId: string;
+  let manager: ReturnType<typeof calibrationsAs>;
+  let admin: ReturnType<typeof calibrationsAs>;
+
+  beforeAll(async () => {
+    t = await startTestApp();
+    w = await calibrationWorld(t);
+    analyst = calibrationsAs(t, w.cast.tokens.analyst);
+    manager = calibrationsAs(t, w.cast.tokens.manager);
+    admin = calibrationsAs(t, w.cast.tokens.admin);
+    const person = await seedPerson(w.prisma, { displayName: 'Second Analyst', labs: [{ labId: w.cast.lab.id, role: 'analyst' }] });
+    colleagueId = person.id;
+    colleague = calibrationsAs(t, await sessionFor(w.prisma, person.id));
+  });
+  afterAll(() => t.close());
+
+  it('a failed calibration gives no factor, quarantines the vessel and marks its current factors for review, all audited', async () => {
+    const vessel = await seedVessel(w.prisma, w.cast.lab.id);
+    const good = await createAndSubmit(
+      colleague,
+      pipetteRun(w, PASSING, { vesselId: vessel.id, performedAt: hoursAgo(1.5).toISOString() }),
+    );
+    const colleagueFactor = expectStatus(await manager.act(good.id, 'approve', good.etag), 200).body.impact.factor.id as string;
+
+    const bad = await createAndSubmit(analyst, pipetteRun(w, FAILING, { vesselId: vessel.id }));
+    expect(bad.body).toMatchObject({ verdict: 'fail' });
+    expect(resultsOf(bad.body).points[0]?.verdict.reasons.join(' ')).toMatch(/exceeds ±0.03 mL/);
+    const approved = expectStatus(await manager.act(bad.id, 'approve', bad.etag, { note: 'Confirmed: tip chipped' }), 200);
+    expect(approved.body).toMatchObject({ state: 'approved', verdict: 'fail', factor: null });
+    expect(approved.body.impact).toEqual({
+      factor: null,
+      vesselQuarantined: true,
+      factorsMarkedForReview: [{ factorId: colleagueFactor, personId: colleagueId, reviewReason: expect.stringContaining(bad.id) }],
+    });
+
+    expect(await w.prisma.factor.count({ where: { calibrationId: bad.id } })).toBe(0);
+    expect(await w.prisma.vessel.findUniqueOrThrow({ where: { id: vessel.id } })).toMatchObject({ status: 'quarantined', version: 2 });
+    const flagged = await w.prisma.factor.findUniqueOrThrow({ where: { id: colleagueFactor } });
+    expect(flagged).toMatchObject({ state: 'current', reviewReason: expect.stringContaining(bad.id) });
+    expect(flagged.reviewRequiredAt).not.toBeNull();
+
+    const vesselEntry = await w.prisma.auditEntry.findFirst({ where: { entityId: vessel.id, entityType: 'vessel', action: 'update' } });
+    expect(vesselEntry).toMatchObject({
+      oldValues: { status: 'in-service' },
+      newValues: { status: 'quarantined' },
+      reason: expect.stringContaining(bad.id),
+    });
+    expect(await w.prisma.auditEntry.count({ where: { entityId: colleagueFactor, action: 'mark-for-review' } })).toBe(1);
+
+    // The vessel is out of service now: the next calibration cannot be submitted until a manager returns it to service.
+    const next = expectStatus(await analyst.create(pipetteRun(w, PASSING, { vesselId: vessel.id })), 201);
+    const refused = expectStatus(await analyst.act(next.body.id, 'submit', next.headers.etag as string), 422);
+    expect(refused.body.violations[0]).toMatchObject({ rule: 'vessel-in-service', itemId: vessel.id });
+  });
+
+  it('leaves the vessel in service when the lab does not quarantine on failure', async () => {
+    await w.prisma.lab.update({ where: { id: w.cast.lab.id }, data: { quarantineOnFailedCalibration: false } });
+    try {
+      const vessel = await seedVessel(w.prisma, w.cast.lab.id);
+      const bad = await createAndSubmit(analyst, pipetteRun(w, FAILING, { vesselId: vessel.id }));
+      const approved = expectStatus(await manager.act(bad.id, 'approve', bad.etag), 200);
+      expect(approved.body.impact).toMatchObject({ factor: null, vesselQuarantined: false });
+      expect(await w.prisma.vessel.findUniqueOrThrow({ where: { id: vessel.id } })).toMatchObject({ status: 'in-service' });
+    } finally {
+      await w.prisma.lab.update({ where: { id: w.cast.lab.id }, data: { quarantineOnFailedCalibration: true } });
+    }
+  });
+
+  it('voiding an approved calibration withdraws its current factor in the same step', async () => {
+    const vessel = await seedVessel(w.prisma, w.cast.lab.id);
+    const cal = await createAndSubmit(analyst, pipetteRun(w, PASSING, { vesselId: vessel.id }));
+    const approved = expectStatus(await manager.act(cal.id, 'approve', cal.etag), 200);
+    const factorId = approved.body.impact.factor.id as string;
+    const voided = expectStatus(
+      await manager.act(cal.id, 'void', approved.headers.etag as string, { reason: 'Balance found out of tolerance' }),
+      200,
+    );
+    expect(voided.body).toMatchObject({ state: 'voided', withdrawnFactorId: factorId, factor: { id: factorId, state: 'withdrawn' } });
+    expect(await w.prisma.factor.findUniqueOrThrow({ where: { id: factorId } })).toMatchObject({ state: 'withdrawn' });
+    const entry = await w.prisma.auditEntry.findFirst({ where: { entityId: factorId, action: 'withdraw' } });
+    expect(entry?.reason).toMatch(/Balance found out of tolerance/);
+  });
+
+  it('two approvals racing for the same person and vessel end with exactly one current factor, the newest calibration’s', async () => {
+    // Needs FactorIssuer.issue to supersede the current factor before inserting the new one: the partial unique
+    // index factors_one_current_key is checked row by row, so inserting a second current factor first fails (409).
+    for (let round = 0; round < 3; round++) {
+      const vessel = await seedVessel(w.prisma, w.cast.lab.id);
+      const older = await createAndSubmit(
+        analyst,
+        pipetteRun(w, PASSING, { vesselId: vessel.id, performedAt: hoursAgo(1.5).toISOString() }),
+      );
+      const newer = await createAndSubmit(analyst, pipetteRun(w, PASSING, { vesselId: vessel.id, performedAt: hoursAgo(1).toISOString() }));
+      const [a, b] = await Promise.all([manager.act(older.id, 'approve', older.etag), admin.act(newer.id, 'approve', newer.etag)]);
+      expectStatus(a, 200);
+      expectStatus(b, 200);
+      const factors = await w.prisma.factor.findMany({ where: { personId: w.cast.people.analyst.id, vesselId: vessel.id } });
+      expect(factors).toHaveLength(2);
+      const current = factors.filter((f) => f.state === 'current');
+      expect(current.map((f) => f.calibrationId)).toEqual([newer.id]);
+      expect(factors.find((f) => f.calibrationId === older.id)).toMatchObject({ state: 'superseded', supersededById: current[0]?.id });
+    }
+  });
+
+  it('one calibration approved twice at once: one approval wins, the other is told the record changed', async () => {
+    const vessel = await seedVessel(w.prisma, w.cast.lab.id);
+    const cal = await createAndSubmit(analyst, pipetteRun(w, PASSING, { vesselId: vessel.id }));
+    const results = await Promise.all([manager.act(cal.id, 'approve', cal.etag), admin.act(cal.id, 'approve', cal.etag)]);
+    expect(results.map((r) => r.status).sort()).toEqual([200, 412]);
+    expect(await w.prisma.factor.count({ where: { calibrationId: cal.id } })).toBe(1);
+  });
+});
