@@ -49,11 +49,20 @@ describe('what approval and void do beyond the record', () => {
     expect(resultsOf(bad.body).points[0]?.verdict.reasons.join(' ')).toMatch(/exceeds ±0.03 mL/);
     const approved = expectStatus(await manager.act(bad.id, 'approve', bad.etag, { note: 'Confirmed: tip chipped' }), 200);
     expect(approved.body).toMatchObject({ state: 'approved', verdict: 'fail', factor: null });
-    expect(approved.body.impact).toEqual({
+    expect(approved.body.impact).toMatchObject({
       factor: null,
       vesselQuarantined: true,
-      factorsMarkedForReview: [{ factorId: colleagueFactor, personId: colleagueId, reviewReason: expect.stringContaining(bad.id) }],
+      review: { subject: { kind: 'vessel', id: vessel.id } },
     });
+    expect(approved.body.impact.review.factors).toEqual([
+      expect.objectContaining({
+        id: colleagueFactor,
+        personId: colleagueId,
+        markedNow: true,
+        reviewReason: expect.stringContaining(bad.id),
+      }),
+    ]);
+    expect(approved.body.impact.review.calibrations.map((c: { id: string }) => c.id)).toEqual([good.id, bad.id]);
 
     expect(await w.prisma.factor.count({ where: { calibrationId: bad.id } })).toBe(0);
     expect(await w.prisma.vessel.findUniqueOrThrow({ where: { id: vessel.id } })).toMatchObject({ status: 'quarantined', version: 2 });
@@ -81,7 +90,7 @@ describe('what approval and void do beyond the record', () => {
       const vessel = await seedVessel(w.prisma, w.cast.lab.id);
       const bad = await createAndSubmit(analyst, pipetteRun(w, FAILING, { vesselId: vessel.id }));
       const approved = expectStatus(await manager.act(bad.id, 'approve', bad.etag), 200);
-      expect(approved.body.impact).toMatchObject({ factor: null, vesselQuarantined: false });
+      expect(approved.body.impact).toMatchObject({ factor: null, vesselQuarantined: false, review: { factors: [] } });
       expect(await w.prisma.vessel.findUniqueOrThrow({ where: { id: vessel.id } })).toMatchObject({ status: 'in-service' });
     } finally {
       await w.prisma.lab.update({ where: { id: w.cast.lab.id }, data: { quarantineOnFailedCalibration: true } });

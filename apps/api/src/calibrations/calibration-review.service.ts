@@ -14,9 +14,9 @@ import type { CalibrationState } from './calibration.schemas';
 import { TX } from './calibration.service';
 import { assertCanReview, assertCanVoid, assertFourEyes, assertState, notFound } from './calibration-access';
 import { CalibrationFactsRepository } from './calibration-facts.repository';
-import { VesselImpact, type VesselImpactResult } from './vessel-impact';
+import { VesselImpact } from './vessel-impact';
 
-const NO_IMPACT: VesselImpactResult = { vesselQuarantined: false, factorsMarkedForReview: [] };
+const NO_IMPACT = { vesselQuarantined: false, review: null } as const;
 
 /**
  * Review and void. Approval of a passing (or no-limit) calibration issues the

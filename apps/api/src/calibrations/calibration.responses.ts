@@ -4,6 +4,7 @@ import { z } from 'zod';
 import { AIR_DENSITY_SOURCES, warnings } from '../calculations/calculations.responses';
 import { GravimetricVolumeResponseSchema } from '../calculations/gravimetric.responses';
 import { decimalString as dec } from '../common/quantity';
+import { ImpactSchema } from '../impact/impact.schemas';
 import { pageOf } from '../inventory/inventory.schemas';
 import { CALIBRATION_STATES } from './calibration.schemas';
 
@@ -147,12 +148,6 @@ export type CalibrationView = z.input<typeof CalibrationSchema>;
 export const CalibrationPageSchema = pageOf(CalibrationSummarySchema);
 export class CalibrationPageDto extends createZodDto(CalibrationPageSchema) {}
 
-export const FactorReviewSchema = z.object({
-  factorId: z.uuid(),
-  personId: z.uuid(),
-  reviewReason: z.string(),
-});
-
 export const ApprovalSchema = CalibrationSchema.extend({
   impact: z.object({
     factor: z
@@ -164,9 +159,9 @@ export const ApprovalSchema = CalibrationSchema.extend({
       .nullable()
       .meta({ description: 'The factor issued (none for a failed calibration)' }),
     vesselQuarantined: z.boolean().meta({ description: 'The vessel was put in quarantine because the calibration failed' }),
-    factorsMarkedForReview: z
-      .array(FactorReviewSchema)
-      .meta({ description: 'Current factors on the vessel marked for review because the calibration failed' }),
+    review: ImpactSchema.nullable().meta({
+      description: 'For a failed calibration: every current factor on the vessel, marked for review, with the calibrations behind them',
+    }),
   }),
 });
 export class ApprovalDto extends createZodDto(ApprovalSchema) {}

@@ -2,6 +2,7 @@ import { Module } from '@nestjs/common';
 
 import { BalanceRepository } from '../balances/balance.repository';
 import { FactorsModule } from '../factors/factors.module';
+import { ImpactModule } from '../impact/impact.module';
 import { InstrumentRepository } from '../instruments/instrument.repository';
 import { VesselRepository } from '../vessels/vessel.repository';
 import { CalibrationController } from './calibration.controller';
@@ -15,7 +16,7 @@ import { VesselImpact } from './vessel-impact';
 
 /** Calibration records: drafts, submission with traceability rules and frozen results, review, void. */
 @Module({
-  imports: [FactorsModule],
+  imports: [FactorsModule, ImpactModule],
   controllers: [CalibrationController],
   providers: [
     CalibrationService,

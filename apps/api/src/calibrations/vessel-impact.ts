@@ -2,29 +2,29 @@ import { Injectable } from '@nestjs/common';
 
 import { AuditWriter } from '../audit/audit-writer';
 import type { AuditContext } from '../auth/actor';
+import { ImpactService } from '../impact/impact.service';
+import type { ImpactView } from '../impact/impact.schemas';
 import type { Tx } from '../inventory/inventory-workflow';
-
-export interface FactorMarkedForReview {
-  readonly factorId: string;
-  readonly personId: string;
-  readonly reviewReason: string;
-}
 
 export interface VesselImpactResult {
   readonly vesselQuarantined: boolean;
-  readonly factorsMarkedForReview: FactorMarkedForReview[];
+  readonly review: ImpactView;
 }
 
 /**
  * What a failed calibration does to its vessel, inside the approval's
- * transaction: the vessel goes to quarantine when the lab says so, and every
- * current factor on it is marked for review, each change audited with a reason
- * naming the calibration. (A small helper of our own: the impact lists of
- * balance checks live elsewhere.)
+ * transaction: the vessel goes to quarantine when the lab says so (audited like
+ * any status change, the reason naming the calibration), and every current
+ * factor on it is marked for review through the shared impact service (every
+ * calibration of the vessel on record is listed: a vessel has no "last known
+ * good" moment common to all its users).
  */
 @Injectable()
 export class VesselImpact {
-  constructor(private readonly audit: AuditWriter) {}
+  constructor(
+    private readonly audit: AuditWriter,
+    private readonly impact: ImpactService,
+  ) {}
 
   async afterFailedCalibration(
     tx: Tx,
@@ -34,35 +34,11 @@ export class VesselImpact {
   ): Promise<VesselImpactResult> {
     const reason = `Calibration ${failed.calibrationId} of this vessel failed its acceptance limit.`;
     const vesselQuarantined = failed.quarantine && (await this.quarantine(tx, ctx, failed, reason, now));
-    const flagged = await tx.factor.findMany({
-      where: { vesselId: failed.vesselId, state: 'current' },
-      select: { id: true, personId: true, labId: true, reviewRequiredAt: true, reviewReason: true },
-      orderBy: { id: 'asc' },
-    });
-    if (flagged.length > 0) {
-      await tx.factor.updateMany({
-        where: { id: { in: flagged.map((f) => f.id) } },
-        data: { reviewRequiredAt: now, reviewReason: reason },
-      });
-    }
-    for (const f of flagged) {
-      await this.audit.record(tx, ctx, {
-        action: 'mark-for-review',
-        entityType: 'factor',
-        entityId: f.id,
-        labId: f.labId,
-        oldValues: { reviewRequiredAt: f.reviewRequiredAt, reviewReason: f.reviewReason },
-        newValues: { reviewRequiredAt: now, reviewReason: reason },
-        reason,
-      });
-    }
-    return {
-      vesselQuarantined,
-      factorsMarkedForReview: flagged.map((f) => ({ factorId: f.id, personId: f.personId, reviewReason: reason })),
-    };
+    const review = await this.impact.forVessel(tx, ctx, failed.vesselId, null, reason);
+    return { vesselQuarantined, review };
   }
 
-  /** An in-service vessel goes to quarantine (audited like any status change); false when it was not in service. */
+  /** An in-service vessel goes to quarantine; false when it was not in service. */
   private async quarantine(tx: Tx, ctx: AuditContext, failed: { vesselId: string; labId: string }, reason: string, now: Date) {
     const { count } = await tx.vessel.updateMany({
       where: { id: failed.vesselId, status: 'in-service' },
