@@ -66,14 +66,14 @@ export class BalanceStatusKeeper {
         change: 'return-to-service',
       };
     }
-    const why = last?.reason ? ` (“${last.reason}”)` : '';
+    const by = last
+      ? `it was set ${status} by a person on ${last.occurredAt.toISOString()}${last.reason ? ` (“${last.reason}”)` : ''}`
+      : 'no failed check set it so';
     return {
       outcome: {
         before: status,
         after: status,
-        reason:
-          `Stays ${status}: it was set ${status} by a person${why}, not by a failed check, ` +
-          'so only the lab’s managers return it to service.',
+        reason: `Stays ${status}: ${by}, so only the lab’s managers return it to service.`,
       },
       change: null,
     };
