@@ -1,0 +1,291 @@
+/**
+ * Factor service benchmark: `npm run bench:factors`.
+ *
+ * Starts the built service (dist/apps/api/src/main.js) on a fresh database — an embedded
+ * PostgreSQL in a temporary folder, or a new database on the server in DATABASE_URL (dropped
+ * afterwards) — seeds one lab with 200 analysts, 2,000 vessels and their approved calibrations
+ * and factors by SQL, and a service credential. Then, in the same run and on the same database,
+ * a bare Fastify + pg server doing the same indexed lookup (bench/support/bare-server.ts).
+ * autocannon drives each endpoint with random (person, vessel) pairs at 64 connections for
+ * 10 s after a 3 s warm-up: the bare lookup, GET /v1/factors/current by ids and by asset tag and
+ * email, and POST /v1/factors/corrections.
+ *
+ * Targets: the service's throughput ≥ 50 % of the bare endpoint's, p99 < 25 ms, no errors.
+ * Results go to stdout and to bench/results/factors-<date>.json and factors-latest.json.
+ * A missed target is printed as MISSED; the exit code stays 0 (a report, not a gate), except
+ * when a request failed (an error is a bug, not a timing).
+ *
+ * Settings: FACTOR_BENCH_CONNECTIONS (64), FACTOR_BENCH_DURATION_S (10), FACTOR_BENCH_WARMUP_S (3),
+ * FACTOR_BENCH_POOL_MAX (10, both servers), DATABASE_URL (external server; needs CREATEDB).
+ */
+import { execFileSync } from 'node:child_process';
+import { randomBytes } from 'node:crypto';
+import { existsSync, mkdirSync, renameSync, writeFileSync } from 'node:fs';
+import { mkdtemp, rm } from 'node:fs/promises';
+import os from 'node:os';
+import path from 'node:path';
+
+import { type DatabaseServer, freePort, openDatabaseServer } from '@registry/data';
+import { Client } from 'pg';
+
+import { FactorLookupRepository } from '../apps/api/src/factors/factor-lookup.repository';
+import { type LoadResult, type LoadTarget, load, portFromStdout, startProcess, stopProcess, waitForOk } from './support/factors-load';
+import { type Pair, lookupPlan, seedFactorBench } from './support/factors-seed';
+
+const int = (name: string, fallback: number) => {
+  const v = Number(process.env[name] ?? fallback);
+  if (!Number.isInteger(v) || v <= 0) throw new Error(`${name} must be a positive integer`);
+  return v;
+};
+const SETTINGS = {
+  connections: int('FACTOR_BENCH_CONNECTIONS', 64),
+  durationS: int('FACTOR_BENCH_DURATION_S', 10),
+  warmupS: int('FACTOR_BENCH_WARMUP_S', 3),
+  poolMax: int('FACTOR_BENCH_POOL_MAX', 10),
+  seed: { people: 200, vessels: 2000, factorsPerVessel: 5 },
+};
+const TARGET_RATIO = 0.5;
+const TARGET_P99_MS = 25;
+
+function repoRoot(from: string): string {
+  let dir = path.resolve(from);
+  while (!existsSync(path.join(dir, 'package.json'))) {
+    const parent = path.dirname(dir);
+    if (parent === dir) throw new Error(`no package.json above ${from}`);
+    dir = parent;
+  }
+  return dir;
+}
+
+/** A fresh database: a new one on the DATABASE_URL server, or an embedded server in a temporary folder. */
+async function openBenchDatabase(tmp: string): Promise<{ server: DatabaseServer; close: () => Promise<void> }> {
+  const external = process.env.DATABASE_URL;
+  if (!external) {
+    const server = await openDatabaseServer({ dataDir: path.join(tmp, 'cluster') });
+    return { server, close: () => server.stop() };
+  }
+  const name = `registry_bench_${randomBytes(4).toString('hex')}`;
+  const admin = async (sql: string) => {
+    const c = new Client({ connectionString: process.env.DATABASE_MIGRATION_URL ?? external });
+    await c.connect();
+    await c.query(sql).finally(() => c.end());
+  };
+  await admin(`CREATE DATABASE ${name}`);
+  const url = new URL(process.env.DATABASE_MIGRATION_URL ?? external);
+  url.pathname = `/${name}`;
+  const server = await openDatabaseServer({ url: url.toString(), dataDir: tmp });
+  return { server, close: () => admin(`DROP DATABASE IF EXISTS ${name} WITH (FORCE)`) };
+}
+
+const pick = (pairs: readonly Pair[]): Pair => pairs[Math.floor(Math.random() * pairs.length)] as Pair;
+const qs = (params: Record<string, string>) => new URLSearchParams(params).toString();
+
+function targets(pairs: readonly Pair[], ports: { service: number; bare: number }, key: string): LoadTarget[] {
+  const service = `http://127.0.0.1:${ports.service}`;
+  const auth = { authorization: `Bearer ${key}` };
+  return [
+    {
+      id: 'bare-lookup',
+      description: 'bare Fastify + pg: the same lookup by person and vessel id, no auth or presentation',
+      url: `http://127.0.0.1:${ports.bare}`,
+      method: 'GET',
+      headers: {},
+      next: () => {
+        const p = pick(pairs);
+        return { path: `/bare/factors/current?${qs({ personId: p.personId, vesselId: p.vesselId })}` };
+      },
+    },
+    {
+      id: 'current-by-ids',
+      description: 'GET /v1/factors/current?personId&vesselId (service credential)',
+      url: service,
+      method: 'GET',
+      headers: auth,
+      next: () => {
+        const p = pick(pairs);
+        return { path: `/v1/factors/current?${qs({ personId: p.personId, vesselId: p.vesselId })}` };
+      },
+    },
+    {
+      id: 'current-by-tag-email',
+      description: 'GET /v1/factors/current?assetTag&email (service credential)',
+      url: service,
+      method: 'GET',
+      headers: auth,
+      next: () => {
+        const p = pick(pairs);
+        return { path: `/v1/factors/current?${qs({ assetTag: p.assetTag, email: p.email })}` };
+      },
+    },
+    {
+      id: 'corrections',
+      description: 'POST /v1/factors/corrections by ids, one-mark ratio or curve interpolation (service credential)',
+      url: service,
+      method: 'POST',
+      headers: { ...auth, 'content-type': 'application/json' },
+      next: () => {
+        const p = pick(pairs);
+        return {
+          path: '/v1/factors/corrections',
+          body: JSON.stringify({ personId: p.personId, vesselId: p.vesselId, indicatedVolumeMl: p.indicatedVolumeMl }),
+        };
+      },
+    },
+  ];
+}
+
+const fmt = (n: number, digits = 1) => n.toLocaleString('en-US', { maximumFractionDigits: digits, minimumFractionDigits: digits });
+
+function table(results: readonly LoadResult[], bare: LoadResult): string {
+  const header = ['endpoint', 'req/s', 'vs bare', 'p50 ms', 'p90 ms', 'p99 ms', 'max ms', 'errors', 'non-2xx'];
+  const rows = results.map((r) => [
+    r.id,
+    fmt(r.requestsPerSecond, 0),
+    r === bare ? '-' : `${fmt((100 * r.requestsPerSecond) / bare.requestsPerSecond, 0)} %`,
+    fmt(r.latencyMs.p50),
+    fmt(r.latencyMs.p90),
+    fmt(r.latencyMs.p99),
+    fmt(r.latencyMs.max),
+    String(r.errors + r.timeouts),
+    String(r.non2xx),
+  ]);
+  const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => (r[i] ?? '').length)));
+  const line = (cells: readonly string[]) =>
+    cells.map((c, i) => (i === 0 ? c.padEnd(widths[i] ?? 0) : c.padStart(widths[i] ?? 0))).join('  ');
+  return [line(header), widths.map((w) => '-'.repeat(w)).join('  '), ...rows.map(line)].join('\n');
+}
+
+function writeResults(dir: string, report: { startedAt: string }): string[] {
+  mkdirSync(dir, { recursive: true });
+  const json = `${JSON.stringify(report, (_k, v: unknown) => (typeof v === 'number' && !Number.isInteger(v) ? Number(v.toPrecision(4)) : v), 2)}\n`;
+  return [`factors-${report.startedAt.slice(0, 10)}.json`, 'factors-latest.json'].map((file) => {
+    const target = path.join(dir, file);
+    const tmp = `${target}.${process.pid}.tmp`;
+    writeFileSync(tmp, json);
+    renameSync(tmp, target);
+    return target;
+  });
+}
+
+async function main(): Promise<void> {
+  const startedAt = new Date().toISOString();
+  const root = repoRoot(__dirname);
+  const serviceMain = path.join(root, 'dist', 'apps', 'api', 'src', 'main.js');
+  const bareMain = path.join(root, 'dist', 'bench', 'support', 'bare-server.js');
+  if (!existsSync(serviceMain)) throw new Error(`${serviceMain} is missing: run npm run build first`);
+  const cpus = os.cpus();
+  console.log(`factor benchmark: ${cpus[0]?.model.trim() ?? 'unknown cpu'}, ${cpus.length} cores, node ${process.version}`);
+  console.log(
+    `${SETTINGS.connections} connections, ${SETTINGS.warmupS} s warm-up + ${SETTINGS.durationS} s per endpoint, pool ${SETTINGS.poolMax}\n`,
+  );
+
+  const tmp = await mkdtemp(path.join(os.tmpdir(), 'registry-bench-'));
+  const database = await openBenchDatabase(tmp);
+  const children: ReturnType<typeof startProcess>[] = [];
+  try {
+    const seedStart = Date.now();
+    const seeded = await seedFactorBench(database.server.ownerUrl, SETTINGS.seed);
+    console.log(
+      `seeded ${seeded.counts.people} people, ${seeded.counts.vessels} vessels, ${seeded.counts.calibrations} calibrations and factors in ${Date.now() - seedStart} ms`,
+    );
+    const plan = await lookupPlan(
+      database.server.ownerUrl,
+      FactorLookupRepository.statementFor('id', 'id', false).text,
+      seeded.pairs[0] as Pair,
+    );
+    console.log(`lookup plan (by ids):\n  ${plan.join('\n  ')}\n`);
+
+    const servicePort = await freePort();
+    const service = startProcess(serviceMain, {
+      NODE_ENV: 'production',
+      LOG_LEVEL: 'info',
+      HOST: '127.0.0.1',
+      PORT: String(servicePort),
+      DATABASE_URL: database.server.url,
+      DATABASE_MIGRATION_URL: database.server.ownerUrl,
+      DB_POOL_MAX: String(SETTINGS.poolMax),
+    });
+    children.push(service);
+    await waitForOk(`http://127.0.0.1:${servicePort}/health/ready`).catch((err: Error) => {
+      throw new Error(`${err.message}\n${service.stderr()}`);
+    });
+    const bare = startProcess(bareMain, { BARE_DATABASE_URL: database.server.url, BARE_POOL_MAX: String(SETTINGS.poolMax) }, true);
+    children.push(bare);
+    const barePort = await portFromStdout(bare.child).catch((err: Error) => {
+      throw new Error(`${err.message}\n${bare.stderr()}`);
+    });
+
+    const loads = targets(seeded.pairs, { service: servicePort, bare: barePort }, seeded.credentialKey);
+    for (const target of loads) await load(target, SETTINGS.connections, SETTINGS.warmupS);
+    const results: LoadResult[] = [];
+    for (const target of loads) {
+      const r = await load(target, SETTINGS.connections, SETTINGS.durationS);
+      results.push(r);
+      console.log(`  ${r.id}: ${fmt(r.requestsPerSecond, 0)} req/s, p99 ${fmt(r.latencyMs.p99)} ms`);
+    }
+    const bareResult = results[0] as LoadResult;
+    console.log(`\n${table(results, bareResult)}\n`);
+
+    const checks = results
+      .filter((r) => r !== bareResult)
+      .flatMap((r) => {
+        const ratio = r.requestsPerSecond / bareResult.requestsPerSecond;
+        const failed = r.errors + r.timeouts + r.non2xx;
+        return [
+          {
+            id: `${r.id}-throughput`,
+            description: `${r.id}: ≥ ${TARGET_RATIO * 100} % of bare throughput`,
+            actual: ratio,
+            pass: ratio >= TARGET_RATIO,
+          },
+          {
+            id: `${r.id}-p99`,
+            description: `${r.id}: p99 < ${TARGET_P99_MS} ms`,
+            actual: r.latencyMs.p99,
+            pass: r.latencyMs.p99 < TARGET_P99_MS,
+          },
+          { id: `${r.id}-errors`, description: `${r.id}: no failed requests`, actual: failed, pass: failed === 0 },
+        ];
+      });
+    for (const c of checks)
+      console.log(
+        `${c.pass ? 'PASS  ' : 'MISSED'}  ${c.description}: ${c.id.endsWith('throughput') ? `${fmt(100 * c.actual, 0)} %` : fmt(c.actual)}`,
+      );
+
+    const report = {
+      benchmark: 'factors',
+      startedAt,
+      gitCommit: gitHead(root),
+      machine: { cpuModel: cpus[0]?.model.trim() ?? 'unknown', cores: cpus.length, node: process.version, loadAverage1m: os.loadavg()[0] },
+      settings: SETTINGS,
+      database: process.env.DATABASE_URL ? 'external (DATABASE_URL), fresh database' : 'embedded PostgreSQL, fresh cluster',
+      seeded: seeded.counts,
+      lookupPlan: plan,
+      results,
+      ratiosToBare: Object.fromEntries(
+        results.filter((r) => r !== bareResult).map((r) => [r.id, r.requestsPerSecond / bareResult.requestsPerSecond]),
+      ),
+      targets: checks,
+    };
+    const files = writeResults(path.join(root, 'bench', 'results'), report);
+    console.log(`\nwrote ${files.map((f) => path.relative(root, f)).join(' and ')}`);
+    if (checks.some((c) => c.id.endsWith('-errors') && !c.pass)) process.exitCode = 1;
+  } finally {
+    for (const c of children) await stopProcess(c.child);
+    await database.close();
+    await rm(tmp, { recursive: true, force: true });
+  }
+}
+
+function gitHead(cwd: string): string | null {
+  try {
+    return execFileSync('git', ['rev-parse', 'HEAD'], { cwd, encoding: 'utf8', stdio: ['ignore', 'pipe', 'ignore'] }).trim();
+  } catch {
+    return null;
+  }
+}
+
+main().catch((err: unknown) => {
+  console.error(err);
+  process.exit(1);
+});

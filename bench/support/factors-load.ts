@@ -1,0 +1,131 @@
+import { type ChildProcess, spawn } from 'node:child_process';
+import { createInterface } from 'node:readline';
+
+import autocannon from 'autocannon';
+
+/** Load of one endpoint: requests built per request from a random pick. */
+export interface LoadTarget {
+  readonly id: string;
+  readonly description: string;
+  readonly url: string;
+  readonly method: 'GET' | 'POST';
+  readonly headers: Record<string, string>;
+  /** Path (and body) of the next request. */
+  readonly next: () => { path: string; body?: string };
+}
+
+export interface LoadResult {
+  readonly id: string;
+  readonly description: string;
+  readonly requestsPerSecond: number;
+  readonly latencyMs: { readonly p50: number; readonly p90: number; readonly p99: number; readonly max: number; readonly mean: number };
+  readonly requests: number;
+  readonly errors: number;
+  readonly timeouts: number;
+  readonly non2xx: number;
+  readonly statusCodes: Record<string, number>;
+}
+
+export async function load(target: LoadTarget, connections: number, durationS: number): Promise<LoadResult> {
+  const result = await autocannon({
+    url: target.url,
+    connections,
+    duration: durationS,
+    timeout: 10,
+    requests: [
+      {
+        method: target.method,
+        headers: target.headers,
+        setupRequest: (request) => ({ ...request, ...target.next() }),
+      },
+    ],
+  });
+  return {
+    id: target.id,
+    description: target.description,
+    requestsPerSecond: result.requests.total / (result.duration || durationS),
+    latencyMs: {
+      p50: result.latency.p50,
+      p90: result.latency.p90,
+      p99: result.latency.p99,
+      max: result.latency.max,
+      mean: result.latency.mean,
+    },
+    requests: result.requests.total,
+    errors: result.errors,
+    timeouts: result.timeouts,
+    non2xx: result.non2xx,
+    statusCodes: Object.fromEntries(Object.entries(result.statusCodeStats ?? {}).map(([code, s]) => [code, s.count])),
+  };
+}
+
+/**
+ * A child Node process; its stderr is kept (last lines) for a failure message. Its stdout is
+ * discarded unless `readStdout` (then read it, or it fills up and the child stalls).
+ */
+export function startProcess(
+  script: string,
+  env: Record<string, string>,
+  readStdout = false,
+): { child: ChildProcess; stderr: () => string } {
+  const child = spawn(process.execPath, [script], {
+    env: { ...process.env, ...env },
+    stdio: ['ignore', readStdout ? 'pipe' : 'ignore', 'pipe'],
+  });
+  const tail: string[] = [];
+  child.stderr?.on('data', (chunk: Buffer) => {
+    tail.push(chunk.toString('utf8'));
+    if (tail.length > 20) tail.shift();
+  });
+  return { child, stderr: () => tail.join('') };
+}
+
+/** The first stdout line of a child that is JSON with `port`. */
+export function portFromStdout(child: ChildProcess, timeoutMs = 20_000): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const timer = setTimeout(() => reject(new Error('the child did not report its port')), timeoutMs);
+    const lines = createInterface({ input: child.stdout as NodeJS.ReadableStream });
+    lines.on('line', (line) => {
+      try {
+        const port = (JSON.parse(line) as { port?: unknown }).port;
+        if (typeof port === 'number') {
+          clearTimeout(timer);
+          lines.close();
+          child.stdout?.resume();
+          resolve(port);
+        }
+      } catch {
+        // not our line
+      }
+    });
+    child.once('exit', (code) => reject(new Error(`the child exited (${code}) before reporting its port`)));
+  });
+}
+
+/** Polls a URL until it answers 200. */
+export async function waitForOk(url: string, timeoutMs = 60_000): Promise<void> {
+  const end = Date.now() + timeoutMs;
+  while (Date.now() < end) {
+    try {
+      const res = await fetch(url);
+      if (res.ok) return;
+    } catch {
+      // not listening yet
+    }
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  throw new Error(`${url} did not answer 200 within ${timeoutMs} ms`);
+}
+
+/** Stops a child with SIGTERM (SIGKILL after a grace period). */
+export function stopProcess(child: ChildProcess, graceMs = 10_000): Promise<void> {
+  if (child.exitCode !== null || child.signalCode !== null) return Promise.resolve();
+  return new Promise((resolve) => {
+    const timer = setTimeout(() => child.kill('SIGKILL'), graceMs);
+    child.once('exit', () => {
+      clearTimeout(timer);
+      resolve();
+    });
+    child.kill('SIGTERM');
+  });
+}
