@@ -180,6 +180,31 @@ describe('a failing balance check: quarantine, impact, and the way back', () => 
     expect(restored.newValues).toMatchObject({ status: 'in-service', balanceCheckId: back.body.id });
   });
 
+  it('returns a balance to service only with a check that tests what failed: a quick check does not answer USP <41>', async () => {
+    const prisma = t.database.prisma;
+    const balance = await seedBalance(prisma, cast.lab.id);
+    const weight = await seedCheckWeight(prisma, cast.lab.id);
+    const usp41 = (readingsG: string[], performedAt: Date) => ({
+      kind: 'usp41',
+      referenceWeightId: weight.id,
+      repeatability: { readingsG, smallestNetWeightG: '0.1' },
+      accuracyReadingG: '100.0001',
+      performedAt: performedAt.toISOString(),
+    });
+    // s = 0.105 mg against a smallest net weight of 0.1 g: 2·s/m = 0.21 % > 0.10 % (see usp41-check.spec.ts).
+    const noisy = Array.from({ length: 10 }, (_, i) => (i % 2 ? '100.0001' : '99.9999'));
+    const fail = await post(balance.id, usp41(noisy, daysAgo(2))).expect(201);
+    expect(fail.body.balanceStatus.after).toBe('quarantined');
+    const quickPass = await post(balance.id, quick(weight.id, '100.0000', daysAgo(1))).expect(201);
+    expect(quickPass.body).toMatchObject({
+      passed: true,
+      balanceStatus: { before: 'quarantined', after: 'quarantined', reason: expect.stringContaining('a USP <41> check does') },
+    });
+    const steady = Array.from({ length: 10 }, () => '100.0000');
+    const usp41Pass = await post(balance.id, usp41(steady, new Date())).expect(201);
+    expect(usp41Pass.body.balanceStatus).toMatchObject({ before: 'quarantined', after: 'in-service' });
+  });
+
   it('keeps a balance that a manager quarantined by hand quarantined, whatever its checks say', async () => {
     const prisma = t.database.prisma;
     const balance = await seedBalance(prisma, cast.lab.id);

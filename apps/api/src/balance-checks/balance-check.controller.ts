@@ -26,7 +26,8 @@ const RECORD_DOC =
   'conventional mass on the weight’s certificate (its nominal mass when none is recorded).\n\n' +
   'A failing check quarantines a balance in service, and the response lists the impact: the calibrations made with the ' +
   'balance since its last passing check and the current factors made from them, now marked for review. A passing check ' +
-  'returns the balance to service only when a failed check had quarantined it; a balance a person quarantined stays so.\n\n' +
+  'returns the balance to service only when a failed check had quarantined it and the passing check tests what failed ' +
+  '(a quick check does not answer a failed USP <41> check); a balance a person quarantined stays so.\n\n' +
   `${CAUTION_LINE}`;
 
 @ApiTags('balance checks')

@@ -69,6 +69,11 @@ export class BalanceCheckRepository {
     });
   }
 
+  async kindOf(tx: Tx, checkId: string): Promise<StoredCheck['kind'] | null> {
+    const row = await tx.balanceCheck.findUnique({ where: { id: checkId }, select: { kind: true } });
+    return (row?.kind as StoredCheck['kind'] | undefined) ?? null;
+  }
+
   async lastStatusChange(tx: Tx, balanceId: string): Promise<StatusChangeFact | null> {
     const rows = await tx.$queryRaw<StatusChangeFact[]>`
       SELECT action, new_values ->> 'status' AS status, new_values ->> 'balanceCheckId' AS "balanceCheckId", reason,

@@ -83,7 +83,8 @@ export class BalanceCheckService {
         repeatabilityWeight,
       });
 
-      const ref = { id: randomUUID(), kind: body.kind, passed: ev.passed, performedAt };
+      const withEccentricity = body.kind === 'usp41' && body.eccentricity !== undefined;
+      const ref = { id: randomUUID(), kind: body.kind, passed: ev.passed, performedAt, withEccentricity };
       const plan = await this.status.plan(tx, balance, ref);
       const impactReason =
         `${balance.assetTag} failed ${body.kind} check ${ref.id} performed ${performedAt.toISOString()}: ` +

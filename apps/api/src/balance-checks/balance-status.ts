@@ -14,18 +14,45 @@ export interface StatusPlan {
   readonly change: 'quarantine' | 'return-to-service' | null;
 }
 
+export type CheckKind = 'quick' | 'usp41' | 'eccentricity';
+
 interface CheckRef {
   readonly id: string;
-  readonly kind: string;
+  readonly kind: CheckKind;
   readonly passed: boolean;
   readonly performedAt: Date;
+  /** A USP <41> check with corner loads also tests eccentricity. */
+  readonly withEccentricity: boolean;
+}
+
+const ANSWERED_BY: Readonly<Record<CheckKind, string>> = {
+  quick: 'a quick or USP <41> check',
+  usp41: 'a USP <41> check',
+  eccentricity: 'an eccentricity test, or a USP <41> check with corner loads,',
+};
+
+/**
+ * The kinds of failure a passing check answers: a USP <41> check tests
+ * accuracy as a quick check does (and eccentricity when it has corner loads);
+ * a quick or eccentricity check does not vouch for repeatability.
+ */
+export function failuresAnswered(check: Pick<CheckRef, 'kind' | 'withEccentricity'>): readonly CheckKind[] {
+  switch (check.kind) {
+    case 'usp41':
+      return check.withEccentricity ? ['usp41', 'quick', 'eccentricity'] : ['usp41', 'quick'];
+    case 'quick':
+      return ['quick'];
+    case 'eccentricity':
+      return ['eccentricity'];
+  }
 }
 
 /**
  * The balance's status follows its checks:
  *  - a failing check quarantines a balance in service;
  *  - a passing check returns it to service only when the quarantine came from
- *    a failed check (the latest audited status change is such a quarantine).
+ *    a failed check (the latest audited status change is such a quarantine)
+ *    and the passing check tests what failed (failuresAnswered).
  *    A balance a person quarantined stays so until a manager releases it:
  *    they had a reason the check does not know about.
  * Every change is an audit entry in the check's transaction, with the check
@@ -57,6 +84,19 @@ export class BalanceStatusKeeper {
       return { outcome: { before: status, after: status, reason: 'In service; the check passed.' }, change: null };
     const last = await this.checks.lastStatusChange(tx, balance.id);
     if (last?.action === 'quarantine' && last.status === 'quarantined' && last.balanceCheckId) {
+      const failed = await this.checks.kindOf(tx, last.balanceCheckId);
+      if (failed && !failuresAnswered(check).includes(failed)) {
+        return {
+          outcome: {
+            before: status,
+            after: status,
+            reason:
+              `Stays ${status}: failed ${failed} check ${last.balanceCheckId} quarantined it, and a passing ${check.kind} check ` +
+              `does not answer that failure (${ANSWERED_BY[failed]} does).`,
+          },
+          change: null,
+        };
+      }
       return {
         outcome: {
           before: status,
