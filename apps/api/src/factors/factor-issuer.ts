@@ -53,6 +53,11 @@ export class FactorIssuer {
     const becomesCurrent = !current || current.validFrom.getTime() <= cal.performedAt.getTime();
     const now = new Date();
     const values = factorValues(cal.points);
+    // The old factor stops being current before the new one is written: the
+    // one-current-factor index is checked row by row and cannot wait for commit.
+    if (becomesCurrent && current) {
+      await tx.factor.update({ where: { id: current.id }, data: { state: 'superseded', endedAt: now } });
+    }
     const created = await tx.factor.create({
       data: {
         labId: cal.labId,
@@ -69,7 +74,7 @@ export class FactorIssuer {
       },
     });
     if (becomesCurrent && current) {
-      await tx.factor.update({ where: { id: current.id }, data: { state: 'superseded', endedAt: now, supersededById: created.id } });
+      await tx.factor.update({ where: { id: current.id }, data: { supersededById: created.id } });
       await this.audit.record(tx, ctx, {
         action: 'supersede',
         entityType: 'factor',
