@@ -113,8 +113,6 @@ describe('what approval and void do beyond the record', () => {
   });
 
   it('two approvals racing for the same person and vessel end with exactly one current factor, the newest calibration’s', async () => {
-    // Needs FactorIssuer.issue to supersede the current factor before inserting the new one: the partial unique
-    // index factors_one_current_key is checked row by row, so inserting a second current factor first fails (409).
     for (let round = 0; round < 3; round++) {
       const vessel = await seedVessel(w.prisma, w.cast.lab.id);
       const older = await createAndSubmit(

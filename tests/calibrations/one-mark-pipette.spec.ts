@@ -96,7 +96,7 @@ describe('a one-mark pipette: create, submit, approve, factor', () => {
     const first = await createAndSubmit(analyst, pipetteRun(w, NETS, { performedAt: hoursAgo(1.5).toISOString() }));
     const approved = expectStatus(await manager.act(first.id, 'approve', first.etag, { note: 'Printout checked' }), 200);
     expect(approved.body).toMatchObject({ state: 'approved', reviewerId: w.cast.people.manager.id, reviewNote: 'Printout checked' });
-    expect(approved.body.impact).toMatchObject({ vesselQuarantined: false, factorsMarkedForReview: [] });
+    expect(approved.body.impact).toMatchObject({ vesselQuarantined: false, review: null });
     const firstFactor = await w.prisma.factor.findUniqueOrThrow({ where: { id: approved.body.impact.factor.id } });
     expect(firstFactor).toMatchObject({
       personId: w.cast.people.analyst.id,
@@ -109,8 +109,6 @@ describe('a one-mark pipette: create, submit, approve, factor', () => {
     expectNear(firstFactor.factor!.toString(), (24.945 * Z20) / 25, (24.945 * Z_TOL) / 25);
     expect(approved.body.factor).toEqual({ id: firstFactor.id, state: 'current' });
 
-    // Needs FactorIssuer.issue to supersede the current factor before inserting the new one: the partial unique
-    // index factors_one_current_key is checked row by row, so inserting a second current factor first fails (409).
     const second = await createAndSubmit(analyst, pipetteRun(w, ['24.9540', '24.9550', '24.9560']));
     const secondApproved = expectStatus(await manager.act(second.id, 'approve', second.etag), 200);
     expect(secondApproved.body.impact.factor).toMatchObject({ current: true, supersededFactorId: firstFactor.id });

@@ -1,5 +1,5 @@
 import { Body, Controller, Get, Headers, HttpCode, Param, Patch, Post, Query, UseInterceptors } from '@nestjs/common';
-import { ApiOperation, ApiResponse, ApiTags } from '@nestjs/swagger';
+import { ApiBody, ApiOperation, ApiResponse, ApiTags } from '@nestjs/swagger';
 import { ZodResponse } from 'nestjs-zod';
 
 import type { RequestContext } from '../auth/actor';
@@ -103,6 +103,7 @@ export class CalibrationController {
       '`traceability-violation` listing each; a lab that allows exceptions accepts `exceptionReason` (never for the vessel ' +
       'itself or a retired item), recorded with the calibration and in the audit trail.',
   })
+  @ApiBody({ type: SubmitCalibrationDto, required: false })
   @ApiResponse({ status: 422, description: 'traceability-violation: `violations` lists { rule, itemId, detail, exceptionAllowed }' })
   @ApiResponse(STATE_409)
   @ZodResponse({ status: 200, type: CalibrationDto })
@@ -126,6 +127,7 @@ export class CalibrationController {
       'superseded, kept as history). A failed one gives no factor: the vessel’s current factors are marked for review and, where ' +
       'the lab says so, the vessel is quarantined; `impact` lists what changed.',
   })
+  @ApiBody({ type: ApproveCalibrationDto, required: false })
   @ApiResponse({ status: 403, description: 'forbidden (not a manager of the lab) or four-eyes' })
   @ApiResponse(STATE_409)
   @ZodResponse({ status: 200, type: ApprovalDto })

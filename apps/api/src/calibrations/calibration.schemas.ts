@@ -117,19 +117,26 @@ export const UpdateCalibrationSchema = z
 export class UpdateCalibrationDto extends createZodDto(UpdateCalibrationSchema) {}
 export type UpdateCalibration = z.output<typeof UpdateCalibrationSchema>;
 
-export const SubmitCalibrationSchema = z.strictObject({
-  exceptionReason: text(
-    1000,
-    'Only where the lab allows exceptions: why the calibration is accepted although a traceability rule is broken (recorded with it and in the audit trail)',
-    'Balance certificate renewed on site; the provider’s paperwork follows.',
-  ).optional(),
-});
+/** A body that may be left out altogether (no body is read as {}). */
+const optionalBody = <T extends z.ZodType>(schema: T) => z.preprocess((v) => v ?? {}, schema);
+
+export const SubmitCalibrationSchema = optionalBody(
+  z.strictObject({
+    exceptionReason: text(
+      1000,
+      'Only where the lab allows exceptions: why the calibration is accepted although a traceability rule is broken (recorded with it and in the audit trail)',
+      'Balance certificate renewed on site; the provider’s paperwork follows.',
+    ).optional(),
+  }),
+);
 export class SubmitCalibrationDto extends createZodDto(SubmitCalibrationSchema) {}
 export type SubmitCalibration = z.output<typeof SubmitCalibrationSchema>;
 
-export const ApproveCalibrationSchema = z.strictObject({
-  note: text(2000, 'Reviewer’s note, kept with the record', 'Raw data checked against the balance printout.').optional(),
-});
+export const ApproveCalibrationSchema = optionalBody(
+  z.strictObject({
+    note: text(2000, 'Reviewer’s note, kept with the record', 'Raw data checked against the balance printout.').optional(),
+  }),
+);
 export class ApproveCalibrationDto extends createZodDto(ApproveCalibrationSchema) {}
 
 export const ReturnCalibrationSchema = z.strictObject({
