@@ -16,7 +16,12 @@
  * when a request failed (an error is a bug, not a timing).
  *
  * Settings: FACTOR_BENCH_CONNECTIONS (64), FACTOR_BENCH_DURATION_S (10), FACTOR_BENCH_WARMUP_S (3),
- * FACTOR_BENCH_POOL_MAX (10, both servers), DATABASE_URL (external server; needs CREATEDB).
+ * FACTOR_BENCH_POOL_MAX (10, both servers), FACTOR_BENCH_ROUNDS (1: with more, the endpoints run
+ * interleaved and the median round is reported), DATABASE_URL (external server; needs CREATEDB).
+ *
+ * Besides throughput and latency, each line gives the CPU time the server process spent per
+ * request (Linux): on a shared or busy machine throughput swings with other load, CPU per
+ * request much less. The load average at start and end is recorded for the same reason.
  */
 import { execFileSync } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
@@ -42,9 +47,16 @@ const SETTINGS = {
   durationS: int('FACTOR_BENCH_DURATION_S', 10),
   warmupS: int('FACTOR_BENCH_WARMUP_S', 3),
   poolMax: int('FACTOR_BENCH_POOL_MAX', 10),
+  rounds: int('FACTOR_BENCH_ROUNDS', 1),
   seed: { people: 200, vessels: 2000, factorsPerVessel: 5 },
 };
 const TARGET_RATIO = 0.5;
+
+/** The run with the median throughput. */
+function median(rs: readonly LoadResult[]): LoadResult {
+  const sorted = [...rs].sort((a, b) => a.requestsPerSecond - b.requestsPerSecond);
+  return sorted[Math.floor((sorted.length - 1) / 2)] as LoadResult;
+}
 const TARGET_P99_MS = 25;
 
 function repoRoot(from: string): string {
@@ -80,12 +92,17 @@ async function openBenchDatabase(tmp: string): Promise<{ server: DatabaseServer;
 const pick = (pairs: readonly Pair[]): Pair => pairs[Math.floor(Math.random() * pairs.length)] as Pair;
 const qs = (params: Record<string, string>) => new URLSearchParams(params).toString();
 
-function targets(pairs: readonly Pair[], ports: { service: number; bare: number }, key: string): LoadTarget[] {
+function targets(
+  pairs: readonly Pair[],
+  ports: { service: number; bare: number },
+  key: string,
+): (LoadTarget & { server: 'bare' | 'service' })[] {
   const service = `http://127.0.0.1:${ports.service}`;
   const auth = { authorization: `Bearer ${key}` };
   return [
     {
       id: 'bare-lookup',
+      server: 'bare',
       description: 'bare Fastify + pg: the same lookup by person and vessel id, no auth or presentation',
       url: `http://127.0.0.1:${ports.bare}`,
       method: 'GET',
@@ -97,6 +114,7 @@ function targets(pairs: readonly Pair[], ports: { service: number; bare: number 
     },
     {
       id: 'current-by-ids',
+      server: 'service',
       description: 'GET /v1/factors/current?personId&vesselId (service credential)',
       url: service,
       method: 'GET',
@@ -108,6 +126,7 @@ function targets(pairs: readonly Pair[], ports: { service: number; bare: number 
     },
     {
       id: 'current-by-tag-email',
+      server: 'service',
       description: 'GET /v1/factors/current?assetTag&email (service credential)',
       url: service,
       method: 'GET',
@@ -119,6 +138,7 @@ function targets(pairs: readonly Pair[], ports: { service: number; bare: number 
     },
     {
       id: 'corrections',
+      server: 'service',
       description: 'POST /v1/factors/corrections by ids, one-mark ratio or curve interpolation (service credential)',
       url: service,
       method: 'POST',
@@ -137,7 +157,7 @@ function targets(pairs: readonly Pair[], ports: { service: number; bare: number 
 const fmt = (n: number, digits = 1) => n.toLocaleString('en-US', { maximumFractionDigits: digits, minimumFractionDigits: digits });
 
 function table(results: readonly LoadResult[], bare: LoadResult): string {
-  const header = ['endpoint', 'req/s', 'vs bare', 'p50 ms', 'p90 ms', 'p99 ms', 'max ms', 'errors', 'non-2xx'];
+  const header = ['endpoint', 'req/s', 'vs bare', 'p50 ms', 'p90 ms', 'p99 ms', 'max ms', 'errors', 'non-2xx', 'CPU µs/req'];
   const rows = results.map((r) => [
     r.id,
     fmt(r.requestsPerSecond, 0),
@@ -148,6 +168,7 @@ function table(results: readonly LoadResult[], bare: LoadResult): string {
     fmt(r.latencyMs.max),
     String(r.errors + r.timeouts),
     String(r.non2xx),
+    r.serverCpuUsPerRequest === null ? '-' : fmt(r.serverCpuUsPerRequest, 0),
   ]);
   const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => (r[i] ?? '').length)));
   const line = (cells: readonly string[]) =>
@@ -174,6 +195,7 @@ async function main(): Promise<void> {
   const bareMain = path.join(root, 'dist', 'bench', 'support', 'bare-server.js');
   if (!existsSync(serviceMain)) throw new Error(`${serviceMain} is missing: run npm run build first`);
   const cpus = os.cpus();
+  const loadAtStart = os.loadavg()[0] ?? 0;
   console.log(`factor benchmark: ${cpus[0]?.model.trim() ?? 'unknown cpu'}, ${cpus.length} cores, node ${process.version}`);
   console.log(
     `${SETTINGS.connections} connections, ${SETTINGS.warmupS} s warm-up + ${SETTINGS.durationS} s per endpoint, pool ${SETTINGS.poolMax}\n`,
@@ -216,13 +238,21 @@ async function main(): Promise<void> {
     });
 
     const loads = targets(seeded.pairs, { service: servicePort, bare: barePort }, seeded.credentialKey);
-    for (const target of loads) await load(target, SETTINGS.connections, SETTINGS.warmupS);
-    const results: LoadResult[] = [];
-    for (const target of loads) {
-      const r = await load(target, SETTINGS.connections, SETTINGS.durationS);
-      results.push(r);
-      console.log(`  ${r.id}: ${fmt(r.requestsPerSecond, 0)} req/s, p99 ${fmt(r.latencyMs.p99)} ms`);
+    const pid = (t: (typeof loads)[number]) => (t.server === 'bare' ? bare.child.pid : service.child.pid);
+    for (const target of loads) await load(target, SETTINGS.connections, SETTINGS.warmupS, pid(target));
+    // Each endpoint runs `rounds` times, interleaved; the round with the median throughput is reported.
+    const runs = new Map<string, LoadResult[]>();
+    for (let round = 0; round < SETTINGS.rounds; round++) {
+      for (const target of loads) {
+        const r = await load(target, SETTINGS.connections, SETTINGS.durationS, pid(target));
+        runs.set(r.id, [...(runs.get(r.id) ?? []), r]);
+        const cpu = r.serverCpuUsPerRequest === null ? '' : `, server CPU ${fmt(r.serverCpuUsPerRequest, 0)} µs/request`;
+        console.log(
+          `  ${r.id}: ${fmt(r.requestsPerSecond, 0)} req/s, p99 ${fmt(r.latencyMs.p99)} ms${cpu} (load ${fmt(os.loadavg()[0] ?? 0)})`,
+        );
+      }
     }
+    const results = loads.map((t) => median(runs.get(t.id) ?? []));
     const bareResult = results[0] as LoadResult;
     console.log(`\n${table(results, bareResult)}\n`);
 
@@ -256,11 +286,18 @@ async function main(): Promise<void> {
       benchmark: 'factors',
       startedAt,
       gitCommit: gitHead(root),
-      machine: { cpuModel: cpus[0]?.model.trim() ?? 'unknown', cores: cpus.length, node: process.version, loadAverage1m: os.loadavg()[0] },
+      machine: {
+        cpuModel: cpus[0]?.model.trim() ?? 'unknown',
+        cores: cpus.length,
+        node: process.version,
+        loadAverage1mAtStart: loadAtStart,
+        loadAverage1mAtEnd: os.loadavg()[0],
+      },
       settings: SETTINGS,
       database: process.env.DATABASE_URL ? 'external (DATABASE_URL), fresh database' : 'embedded PostgreSQL, fresh cluster',
       seeded: seeded.counts,
       lookupPlan: plan,
+      rounds: Object.fromEntries(runs),
       results,
       ratiosToBare: Object.fromEntries(
         results.filter((r) => r !== bareResult).map((r) => [r.id, r.requestsPerSecond / bareResult.requestsPerSecond]),

@@ -1,4 +1,5 @@
 import { type ChildProcess, spawn } from 'node:child_process';
+import { readFileSync } from 'node:fs';
 import { createInterface } from 'node:readline';
 
 import autocannon from 'autocannon';
@@ -24,9 +25,25 @@ export interface LoadResult {
   readonly timeouts: number;
   readonly non2xx: number;
   readonly statusCodes: Record<string, number>;
+  /** CPU time (user + system) the server process spent per request, µs; null where /proc is unavailable. */
+  readonly serverCpuUsPerRequest: number | null;
 }
 
-export async function load(target: LoadTarget, connections: number, durationS: number): Promise<LoadResult> {
+/** CPU time of a process so far, ms (Linux /proc; null elsewhere). */
+function processCpuMs(pid: number | undefined): number | null {
+  if (pid === undefined) return null;
+  try {
+    const fields = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1]?.split(' ') ?? [];
+    const ticks = Number(fields[11]) + Number(fields[12]);
+    return Number.isFinite(ticks) ? ticks * 10 : null;
+  } catch {
+    return null;
+  }
+}
+
+/** Drives `target` for `durationS`; `serverPid` is the process whose CPU time is counted. */
+export async function load(target: LoadTarget, connections: number, durationS: number, serverPid?: number): Promise<LoadResult> {
+  const cpuBefore = processCpuMs(serverPid);
   const result = await autocannon({
     url: target.url,
     connections,
@@ -40,6 +57,7 @@ export async function load(target: LoadTarget, connections: number, durationS: n
       },
     ],
   });
+  const cpuAfter = processCpuMs(serverPid);
   return {
     id: target.id,
     description: target.description,
@@ -56,6 +74,10 @@ export async function load(target: LoadTarget, connections: number, durationS: n
     timeouts: result.timeouts,
     non2xx: result.non2xx,
     statusCodes: Object.fromEntries(Object.entries(result.statusCodeStats ?? {}).map(([code, s]) => [code, s.count])),
+    serverCpuUsPerRequest:
+      cpuBefore === null || cpuAfter === null || result.requests.total === 0
+        ? null
+        : (1000 * (cpuAfter - cpuBefore)) / result.requests.total,
   };
 }
 
