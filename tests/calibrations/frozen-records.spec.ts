@@ -66,10 +66,9 @@ describe('a calibration is frozen once submitted, and changes need the version r
   it('lets the performer void their own returned record but not a submitted one; a manager voids with a reason, once', async () => {
     const draft = expectStatus(await analyst.create(pipetteRun(w, NETS)), 201);
     expectStatus(await analyst.act(draft.body.id, 'void', '"v1"', { reason: 'no' }), 400);
-    // The schema keeps results on every record that leaves draft (calibrations_submitted_has_results), so a
-    // never-submitted draft cannot be voided yet: a clear 409 rather than a database error.
-    const neverSubmitted = expectStatus(await analyst.act(draft.body.id, 'void', '"v1"', { reason: 'Wrong vessel picked' }), 409);
-    expect(neverSubmitted.body).toMatchObject({ code: 'invalid-state', rule: 'calibrations_submitted_has_results' });
+    // A draft that was never submitted carries no results, and may be voided all the same.
+    const neverSubmitted = expectStatus(await analyst.act(draft.body.id, 'void', '"v1"', { reason: 'Wrong vessel picked' }), 200);
+    expect(neverSubmitted.body).toMatchObject({ state: 'voided', verdict: null, voidReason: 'Wrong vessel picked' });
 
     const sent = await createAndSubmit(analyst, pipetteRun(w, NETS));
     const returned = expectStatus(await manager.act(sent.id, 'return', sent.etag, { note: 'Wrong pipette?' }), 200);

@@ -1,7 +1,6 @@
 import { Injectable } from '@nestjs/common';
 import { Prisma } from '@registry/data';
 
-import { DomainError } from '../common/problem/domain-error';
 import type { Tx } from '../inventory/inventory-workflow';
 import type { DeliveryMode } from '../vessels/vessel-rules';
 import type { CalibrationInputs, CalibrationResults, Verdict } from './calibration.responses';
@@ -109,14 +108,6 @@ function airColumns(inputs: CalibrationInputs) {
 
 const json = (value: unknown) => value as Prisma.InputJsonValue;
 
-/** The CHECK constraint a write violated, as Prisma reports PostgreSQL's 23514. */
-function violatedCheck(error: unknown): string | null {
-  const cause = (error as { meta?: { driverAdapterError?: { cause?: { code?: unknown; message?: unknown } } } })?.meta?.driverAdapterError
-    ?.cause;
-  if (cause?.code !== '23514' || typeof cause.message !== 'string') return null;
-  return /check constraint "([^"]+)"/.exec(cause.message)?.[1] ?? null;
-}
-
 @Injectable()
 export class CalibrationRepository {
   async findById(tx: Tx, id: string): Promise<CalibrationRecord | null> {
@@ -168,21 +159,8 @@ export class CalibrationRepository {
       version: { increment: 1 },
       updatedAt: now,
     };
-    try {
-      const { count } = await tx.calibration.updateMany({ where: { id, version: expected, state: { in: [...from] } }, data });
-      return count === 1 ? this.findById(tx, id) : null;
-    } catch (error) {
-      if (violatedCheck(error) === 'calibrations_submitted_has_results') {
-        throw new DomainError(
-          'invalid-state',
-          'The database keeps every calibration that leaves draft or returned with submitted results (rule calibrations_submitted_has_results): ' +
-            'a record without them cannot be voided. Submit it first, or leave it as it is.',
-          undefined,
-          { state: from[0] ?? null, rule: 'calibrations_submitted_has_results' },
-        );
-      }
-      throw error;
-    }
+    const { count } = await tx.calibration.updateMany({ where: { id, version: expected, state: { in: [...from] } }, data });
+    return count === 1 ? this.findById(tx, id) : null;
   }
 
   /** Newest first (performedAt, then id), `take` rows after the cursor. */
