@@ -4,6 +4,7 @@ import { Decimal } from '@registry/metrology';
 
 import { AuditWriter } from '../audit/audit-writer';
 import type { AuditContext } from '../auth/actor';
+import { Clock } from '../common/clock';
 
 /** One calibrated point of an approved calibration, as the factor needs it. */
 export interface CalibratedPoint {
@@ -45,13 +46,16 @@ const DAY_MS = 86_400_000;
  */
 @Injectable()
 export class FactorIssuer {
-  constructor(private readonly audit: AuditWriter) {}
+  constructor(
+    private readonly audit: AuditWriter,
+    private readonly clock: Clock,
+  ) {}
 
   async issue(tx: Prisma.TransactionClient, ctx: AuditContext, cal: ApprovedCalibration, validityDays: number): Promise<IssuedFactor> {
     await tx.$executeRaw`SELECT pg_advisory_xact_lock(hashtextextended(${`factor:${cal.performerId}:${cal.vesselId}`}, 0))`;
     const current = await tx.factor.findFirst({ where: { personId: cal.performerId, vesselId: cal.vesselId, state: 'current' } });
     const becomesCurrent = !current || current.validFrom.getTime() <= cal.performedAt.getTime();
-    const now = new Date();
+    const now = this.clock.now();
     const values = factorValues(cal.points);
     // The old factor stops being current before the new one is written: the
     // one-current-factor index is checked row by row and cannot wait for commit.
@@ -103,7 +107,7 @@ export class FactorIssuer {
   ): Promise<string | null> {
     const factor = await tx.factor.findUnique({ where: { calibrationId } });
     if (!factor || factor.state !== 'current') return null;
-    await tx.factor.update({ where: { id: factor.id }, data: { state: 'withdrawn', endedAt: new Date() } });
+    await tx.factor.update({ where: { id: factor.id }, data: { state: 'withdrawn', endedAt: this.clock.now() } });
     await this.audit.record(tx, ctx, {
       action: 'withdraw',
       entityType: 'factor',
