@@ -133,11 +133,13 @@ export function volumeBudgetInputs(input: VolumeUncertaintyInput): {
 
   const model: BudgetModel = (x) => {
     const g = (k: string) => x[k] as Decimal;
-    const rhoW = rhoW0.plus(rhoOf(g('t')).minus(rhoAt)).plus(g('dRhoW'));
+    // Only the temperature row moves t: the other evaluations reuse rho(t0) instead of recomputing it.
+    const t = g('t');
+    const rhoW = rhoW0.plus((t.equals(t0) ? rhoAt : rhoOf(t)).minus(rhoAt)).plus(g('dRhoW'));
     return volumeModel({
       ...m,
       netMassG: g('m').plus(g('dmRes')),
-      waterTemperatureC: g('t'),
+      waterTemperatureC: t,
       waterDensityKgPerM3: rhoW,
       airDensityKgPerM3: g('rhoA'),
       weightDensityKgPerM3: g('rhoB'),
