@@ -14,6 +14,11 @@ export type DecimalInput = DecimalJs.Value;
 
 /** Converts an input to a Decimal, refusing NaN and infinities. */
 export function dec(value: DecimalInput, field = 'value'): Decimal {
+  // Decimals are immutable: one of ours is returned as it is, not copied.
+  if (value instanceof Decimal) {
+    if (!value.isFinite()) throw new MetrologyInputError(field, 'must be a finite number');
+    return value;
+  }
   let d: Decimal;
   try {
     d = new Decimal(value);

@@ -4,7 +4,7 @@ import { type Decimal, type DecimalInput, dec } from './decimal';
 import { MetrologyInputError, type MetrologyWarning } from './errors';
 import { DEFAULT_REFERENCE_TEMPERATURE_C, type ReplicateReadings, replicateVolume } from './gravimetric';
 import { resolveExpansionCoefficient } from './materials';
-import { type GrubbsResult, coefficientOfVariationPercent, grubbsTest, mean, sampleStandardDeviation, systematicError } from './statistics';
+import { type GrubbsResult, grubbsTest, mean, sampleStandardDeviation } from './statistics';
 import { type LabOverride, type VerdictResult, verdict } from './tolerances';
 import { type CoverageOptions } from './uncertainty';
 import { type VolumeStandardUncertainties, type VolumeUncertaintyResult, evaluateVolumeUncertainty } from './volume-uncertainty';
@@ -90,7 +90,17 @@ export function evaluateGravimetricPoint(input: GravimetricPointInput): Gravimet
   const weightDensity =
     input.weightDensityKgPerM3 === undefined ? REFERENCE_WEIGHT_DENSITY_KG_PER_M3 : dec(input.weightDensityKgPerM3, 'weightDensityKgPerM3');
   const airSaturated = input.waterAirSaturated ?? false;
-  const rhoW = (t: DecimalInput) => waterDensity({ temperatureC: t, airSaturated });
+  // Replicates share few distinct temperatures: compute each density once per call.
+  const densities = new Map<string, ReturnType<typeof waterDensity>>();
+  const rhoW = (t: DecimalInput) => {
+    const key = String(t);
+    let w = densities.get(key);
+    if (!w) {
+      w = waterDensity({ temperatureC: t, airSaturated });
+      densities.set(key, w);
+    }
+    return w;
+  };
 
   const replicates = input.replicates.map((r, i): ReplicateResult => {
     const w = rhoW(r.waterTemperatureC);
@@ -153,8 +163,11 @@ export function evaluateGravimetricPoint(input: GravimetricPointInput): Gravimet
     warnings.push({ code: 'few-replicates', field: 'replicates', message: 'fewer than 3 replicates: repeatability is poorly known' });
   }
 
-  const sys = systematicError(volumes, nominal);
+  // Mean and standard deviation once, for every figure derived from them.
+  const meanVolume = mean(volumes);
   const s = sampleStandardDeviation(volumes);
+  const sysError = meanVolume.minus(nominal);
+  const sys = { mean: meanVolume, error: sysError, errorPercent: sysError.div(nominal).times(100) };
   const a = input.acceptance;
   return {
     replicates,
@@ -163,7 +176,7 @@ export function evaluateGravimetricPoint(input: GravimetricPointInput): Gravimet
     expansionCoefficientSource: gamma.source,
     meanVolumeMl: sys.mean,
     standardDeviationMl: s,
-    cvPercent: coefficientOfVariationPercent(volumes),
+    cvPercent: s.div(meanVolume).times(100),
     systematicErrorMl: sys.error,
     systematicErrorPercent: sys.errorPercent,
     grubbs,

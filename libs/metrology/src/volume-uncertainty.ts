@@ -126,9 +126,10 @@ export function volumeBudgetInputs(input: VolumeUncertaintyInput): {
       ...row('Cubic expansion coefficient', 'gamma', '1/K', m.expansionCoefficientPerK, uGamma, 'rectangular'),
       ...byDefault(u.expansionCoefficientPerK, '±10 % of γ rectangular'),
     },
-    { ...row('Repeatability (replicate volumes)', 'dVrep', 'mL', 0, rep.u, 'type-a'), degreesOfFreedom: rep.nu },
-    row('Meniscus reading', 'dVmen', 'mL', 0, nonNegative(u.meniscusMl, 'meniscusMl'), 'rectangular'),
-    row('Evaporation', 'dVevap', 'mL', 0, nonNegative(u.evaporationMl, 'evaporationMl'), 'rectangular'),
+    // The last three enter the model as added volumes: their sensitivity is exactly 1.
+    { ...row('Repeatability (replicate volumes)', 'dVrep', 'mL', 0, rep.u, 'type-a'), degreesOfFreedom: rep.nu, sensitivityCoefficient: 1 },
+    { ...row('Meniscus reading', 'dVmen', 'mL', 0, nonNegative(u.meniscusMl, 'meniscusMl'), 'rectangular'), sensitivityCoefficient: 1 },
+    { ...row('Evaporation', 'dVevap', 'mL', 0, nonNegative(u.evaporationMl, 'evaporationMl'), 'rectangular'), sensitivityCoefficient: 1 },
   ];
 
   const model: BudgetModel = (x) => {
