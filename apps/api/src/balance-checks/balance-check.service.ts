@@ -9,7 +9,7 @@ import { assertCanReadLab, assertLabMember } from '../auth/access-policy';
 import type { RequestContext } from '../auth/actor';
 import { type BalanceRecord, BalanceRepository } from '../balances/balance.repository';
 import { Clock } from '../common/clock';
-import { decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
+import { cursorInstant, decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
 import { DomainError } from '../common/problem/domain-error';
 import { ImpactService } from '../impact/impact.service';
 import { invalid } from '../inventory/inventory.errors';
@@ -171,8 +171,8 @@ export class BalanceCheckService {
 
 function decodeCheckCursor(cursor: string): { performedAt: Date; id: string } {
   const { sortValue, id } = decodeCursor(cursor);
-  const performedAt = typeof sortValue === 'string' ? new Date(sortValue) : new Date(NaN);
-  if (Number.isNaN(performedAt.getTime()) || !UUID.test(id)) {
+  const performedAt = cursorInstant(sortValue);
+  if (!UUID.test(id)) {
     throw new DomainError('validation-failed', 'The cursor does not belong to this list.', [{ field: 'cursor', reason: 'invalid cursor' }]);
   }
   return { performedAt, id };

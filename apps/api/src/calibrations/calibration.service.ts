@@ -6,7 +6,7 @@ import { canReadLab, readableLabs } from '../auth/access-policy';
 import type { RequestContext } from '../auth/actor';
 import { Clock } from '../common/clock';
 import { expectedVersion, staleVersion } from '../common/http/concurrency';
-import { decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
+import { cursorInstant, decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
 import { DomainError } from '../common/problem/domain-error';
 import type { Tx } from '../inventory/inventory-workflow';
 import { presentCalibration, presentSummary } from './calibration.presenter';
@@ -178,9 +178,9 @@ export class CalibrationService {
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 /** The (performedAt, id) a page continues after. */
-function cursorAfter(cursor: { sortValue: string | number | null; id: string }): { performedAt: Date; id: string } {
-  const at = typeof cursor.sortValue === 'string' ? new Date(cursor.sortValue) : new Date(Number.NaN);
-  if (Number.isNaN(at.getTime()) || !UUID.test(cursor.id)) {
+function cursorAfter(cursor: { sortValue: string | null; id: string }): { performedAt: Date; id: string } {
+  const at = cursorInstant(cursor.sortValue);
+  if (!UUID.test(cursor.id)) {
     throw new DomainError('validation-failed', 'The cursor is not one this API issued.', [{ field: 'cursor', reason: 'invalid cursor' }]);
   }
   return { performedAt: at, id: cursor.id };

@@ -16,26 +16,44 @@ export interface Page<T> {
   readonly nextCursor: string | null;
 }
 
-/** Cursor = the sort key and id of the last row, base64url JSON. */
-export function encodeCursor(sortValue: string | number | null, id: string): string {
+/** Every row id is a UUID; a cursor naming anything else was not issued here (and would fail in the database). */
+const ROW_ID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/** Cursor = the sort key (a string, or null for an empty key) and id of the last row, base64url JSON. */
+export function encodeCursor(sortValue: string | null, id: string): string {
   return Buffer.from(JSON.stringify([sortValue, id]), 'utf8').toString('base64url');
 }
 
-export function decodeCursor(cursor: string): { sortValue: string | number | null; id: string } {
+const invalidCursor = () =>
+  new DomainError('validation-failed', 'The cursor is not one this API issued.', [{ field: 'cursor', reason: 'invalid cursor' }]);
+
+/** Instants as cursors carry them (toISOString of a stored time): years 0001 to 9999, all within PostgreSQL's range. */
+const STORED_INSTANT = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}:\d{2}\.\d{3}Z$/;
+
+/** The instant a time-ordered page continues after; anything else is a 400, never a query the database refuses. */
+export function cursorInstant(sortValue: string | null): Date {
+  const at = typeof sortValue === 'string' && STORED_INSTANT.test(sortValue) ? new Date(sortValue) : null;
+  if (!at || Number.isNaN(at.getTime()) || at.getUTCFullYear() < 1) throw invalidCursor();
+  return at;
+}
+
+export function decodeCursor(cursor: string): { sortValue: string | null; id: string } {
   try {
     const parsed: unknown = JSON.parse(Buffer.from(cursor, 'base64url').toString('utf8'));
     if (
       Array.isArray(parsed) &&
       parsed.length === 2 &&
+      // No stored key holds NUL (PostgreSQL refuses it in text, and in a query).
+      ((typeof parsed[0] === 'string' && !parsed[0].includes('\u0000')) || parsed[0] === null) &&
       typeof parsed[1] === 'string' &&
-      ['string', 'number', 'object'].includes(typeof parsed[0])
+      ROW_ID.test(parsed[1])
     ) {
-      return { sortValue: parsed[0] as string | number | null, id: parsed[1] };
+      return { sortValue: parsed[0], id: parsed[1] };
     }
   } catch {
     // fall through
   }
-  throw new DomainError('validation-failed', 'The cursor is not one this API issued.', [{ field: 'cursor', reason: 'invalid cursor' }]);
+  throw invalidCursor();
 }
 
 /** Builds a page from `limit + 1` fetched rows. */

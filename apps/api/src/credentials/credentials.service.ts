@@ -6,7 +6,7 @@ import type { Actor, RequestContext, Scope } from '../auth/actor';
 import { assertAdministrator } from '../auth/access-policy';
 import { newCredentialKey } from '../auth/tokens';
 import { Clock } from '../common/clock';
-import { decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
+import { cursorInstant, decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
 import { DomainError } from '../common/problem/domain-error';
 import type { Db } from '../labs/db';
 import { LabsRepository } from '../labs/labs.repository';
@@ -74,10 +74,7 @@ export class CredentialsService {
   async list(ctx: RequestContext, query: CredentialListQuery): Promise<Page<CredentialView>> {
     assertMayRead(ctx.actor);
     const after = query.cursor ? decodeCursor(query.cursor) : undefined;
-    const afterAt = after ? new Date(String(after.sortValue)) : undefined;
-    if (afterAt && Number.isNaN(afterAt.getTime())) {
-      throw new DomainError('validation-failed', 'The cursor is not one this API issued.', [{ field: 'cursor', reason: 'invalid cursor' }]);
-    }
+    const afterAt = after ? cursorInstant(after.sortValue) : undefined;
     const rows = await this.credentials.list(
       this.prisma,
       query.status,

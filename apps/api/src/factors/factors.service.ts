@@ -2,7 +2,7 @@ import { Injectable } from '@nestjs/common';
 import { PrismaClient } from '@registry/data';
 
 import type { RequestContext } from '../auth/actor';
-import { decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
+import { cursorInstant, decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
 import { DomainError } from '../common/problem/domain-error';
 import { factorReadScope, mayReadFactor } from './factor-access';
 import { factorEtag, presentFactor } from './factor.presenter';
@@ -22,8 +22,8 @@ export class FactorsService {
 
   async list(ctx: RequestContext, query: FactorListQuery): Promise<Page<FactorView>> {
     const after = query.cursor ? decodeCursor(query.cursor) : undefined;
-    const afterAt = after ? new Date(String(after.sortValue)) : undefined;
-    if (after && (typeof after.sortValue !== 'string' || Number.isNaN(afterAt?.getTime()) || !isUuid(after.id))) throw invalidCursor();
+    const afterAt = after ? cursorInstant(after.sortValue) : undefined;
+    if (after && !isUuid(after.id)) throw invalidCursor();
     const rows = await this.factors.list(
       this.prisma,
       factorReadScope(ctx.actor),

@@ -1,6 +1,4 @@
-import { Decimal } from '@registry/metrology';
-
-import { decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
+import { cursorInstant, decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
 import { DomainError } from '../common/problem/domain-error';
 
 /*
@@ -48,6 +46,9 @@ export interface ListArgs {
 
 type Dir = 'asc' | 'desc';
 
+/** The plain decimal strings pages carry for NUMERIC sort keys (a few dozen digits at most). */
+const PLAIN_DECIMAL = /^-?\d{1,40}(?:\.\d{1,40})?$/;
+
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 function parseSort(spec: ListSpec, sort: string): { field: string; dir: Dir; key: SortField } {
@@ -74,17 +75,15 @@ function cursorValue(key: SortField, value: string | number | null): unknown {
     case 'text':
       return value;
     case 'decimal':
-      try {
-        return new Decimal(value).toFixed();
-      } catch {
-        throw badCursor();
-      }
+      // Only the plain notation this API writes: "1e100000000" would be expanded to a hundred million digits.
+      if (!PLAIN_DECIMAL.test(value)) throw badCursor();
+      return value;
     case 'timestamp':
-    case 'date': {
-      const date = new Date(key.kind === 'date' ? `${value}T00:00:00.000Z` : value);
-      if (Number.isNaN(date.getTime())) throw badCursor();
-      return date;
-    }
+      return cursorInstant(value);
+    case 'date':
+      // A stored DATE as YYYY-MM-DD: the same range as a stored instant.
+      if (!/^\d{4}-\d{2}-\d{2}$/.test(value)) throw badCursor();
+      return cursorInstant(`${value}T00:00:00.000Z`);
   }
 }
 
