@@ -2,6 +2,7 @@ import { createZodDto } from 'nestjs-zod';
 import { z } from 'zod';
 
 import { pageQuerySchema } from '../common/pagination';
+import { inStoredYears, storedYears } from '../common/calendar-range';
 import { quantity, REQUIRED } from '../common/quantity';
 import { notesSchema } from '../inventory/inventory.schemas';
 
@@ -34,6 +35,7 @@ const limitG = (what: string) => quantity(`The laboratory’s limit on ${what}, 
 const common = {
   performedAt: z.iso
     .datetime({ offset: true, error: 'must be an ISO 8601 date-time with a zone, e.g. 2026-03-02T07:45:00Z' })
+    .refine(inStoredYears, storedYears)
     .optional()
     .meta({
       description:

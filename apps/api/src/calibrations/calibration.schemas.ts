@@ -4,6 +4,8 @@ import { z } from 'zod';
 import { exactlyOne } from '../calculations/calculations.schemas';
 import { GravimetricVolumeRequestSchema } from '../calculations/gravimetric.schemas';
 import { pageQuerySchema } from '../common/pagination';
+import { inStoredYears, storedYears } from '../common/calendar-range';
+import { characterCount } from '../common/plain-text';
 import { quantity } from '../common/quantity';
 import { storedQuantity, text } from '../inventory/inventory.schemas';
 
@@ -61,6 +63,7 @@ const weightDensityKgPerM3 = quantity(
 const waterAirSaturated = z.boolean().meta({ description: 'Water left standing in air: apply the air-saturation correction' });
 const performedAt = z.iso
   .datetime({ offset: true, error: 'must be an ISO 8601 date-time with a zone, e.g. 2026-03-02T09:30:00Z' })
+  .refine(inStoredYears, storedYears)
   .meta({ description: 'When the weighings were made (not in the future)', example: '2026-03-02T09:30:00Z' });
 const points = z
   .array(PointSchema)
@@ -145,16 +148,20 @@ export const ReturnCalibrationSchema = z.strictObject({
 export class ReturnCalibrationDto extends createZodDto(ReturnCalibrationSchema) {}
 
 export const VoidCalibrationSchema = z.strictObject({
-  reason: text(1000, 'Why the record is voided (at least 3 characters)', 'Entered against the wrong vessel.').refine((s) => s.length >= 3, {
-    error: 'must be at least 3 characters',
-  }),
+  reason: text(1000, 'Why the record is voided (at least 3 characters)', 'Entered against the wrong vessel.').refine(
+    (s) => characterCount(s) >= 3,
+    {
+      error: 'must be at least 3 characters',
+    },
+  ),
 });
 export class VoidCalibrationDto extends createZodDto(VoidCalibrationSchema) {}
 
 export const CalibrationIdParamSchema = z.strictObject({ id: z.uuid({ error: 'must be a UUID' }) });
 export class CalibrationIdParamDto extends createZodDto(CalibrationIdParamSchema) {}
 
-const instant = (description: string) => z.iso.datetime({ offset: true, error: 'must be an ISO 8601 date-time' }).meta({ description });
+const instant = (description: string) =>
+  z.iso.datetime({ offset: true, error: 'must be an ISO 8601 date-time' }).refine(inStoredYears, storedYears).meta({ description });
 
 export const CalibrationListQuerySchema = pageQuerySchema.strict().extend({
   labId: z.uuid().optional().meta({ description: 'Only this lab’s calibrations (a lab you cannot read gives an empty list)' }),

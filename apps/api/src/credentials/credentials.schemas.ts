@@ -3,6 +3,7 @@ import { z } from 'zod';
 
 import { SCOPES } from '../auth/actor';
 import { pageQuerySchema } from '../common/pagination';
+import { isPlainText, plainTextOnly } from '../common/plain-text';
 
 export const CREDENTIAL_STATUSES = ['active', 'revoked'] as const;
 
@@ -18,7 +19,7 @@ const labIds = z
   .meta({ description: '"all", or the only labs whose objects the credential reaches' });
 
 export const createCredentialSchema = z
-  .object({ name: z.string().trim().min(1).max(200), scopes, labIds })
+  .object({ name: z.string().trim().min(1).max(200).refine(isPlainText, plainTextOnly), scopes, labIds })
   .strict()
   .meta({
     example: {

@@ -2,6 +2,8 @@ import { Decimal } from '@registry/metrology';
 import { z } from 'zod';
 
 import { pageQuerySchema } from '../common/pagination';
+import { inStoredYears, storedYears } from '../common/calendar-range';
+import { isPlainText, plainTextOnly } from '../common/plain-text';
 import { quantity } from '../common/quantity';
 
 /*
@@ -28,9 +30,7 @@ export const assetTagSchema = z
   })
   .meta({ description: 'The label on the item, unique in the registry', example: 'VF-100-017' });
 
-/** Control characters other than tab and line breaks (PostgreSQL refuses NUL in text outright). */
-const CONTROL = /[\u0000-\u0008\u000B\u000C\u000E-\u001F\u007F]/;
-export const noControl = { error: 'must not contain control characters' };
+export { noControl } from '../common/plain-text';
 
 /** A trimmed, non-empty text; send null in a PATCH to clear it. */
 export const text = (max: number, description: string, example?: string) =>
@@ -39,7 +39,7 @@ export const text = (max: number, description: string, example?: string) =>
     .trim()
     .min(1, { error: 'must not be empty (send null to clear it)' })
     .max(max, { error: `must be at most ${max} characters` })
-    .refine((s) => !CONTROL.test(s), noControl)
+    .refine(isPlainText, plainTextOnly)
     .meta({ description, ...(example === undefined ? {} : { example }) });
 
 export const makerSerialSchema = text(100, "Maker's serial or batch number", '21.04-1187');
@@ -51,7 +51,7 @@ export const reasonSchema = text(500, 'Why this change is made; required when th
 
 /** A calendar date (no time, no zone). */
 export const dateOnly = (description: string, example: string) =>
-  z.iso.date({ error: 'must be a date YYYY-MM-DD' }).meta({ description, example });
+  z.iso.date({ error: 'must be a date YYYY-MM-DD' }).refine(inStoredYears, storedYears).meta({ description, example });
 
 export interface StoredNumeric {
   /** Total significant digits of the column (NUMERIC(precision, scale)). */
@@ -117,7 +117,7 @@ export function listQuerySchema<const S extends readonly [string, ...string[]]>(
       .trim()
       .min(1)
       .max(100)
-      .refine((s) => !CONTROL.test(s), noControl)
+      .refine(isPlainText, plainTextOnly)
       .optional()
       .meta({ description: 'Case-insensitive text search in asset tag, maker serial and location', example: 'PIP-25' }),
     sort: z

@@ -2,6 +2,7 @@ import { createZodDto } from 'nestjs-zod';
 import { z } from 'zod';
 
 import { pageQuerySchema } from '../common/pagination';
+import { isPlainText, plainTextOnly } from '../common/plain-text';
 
 /** Lab codes as the database accepts them (CHECK labs_code_format). */
 export const LAB_CODE_PATTERN = /^[A-Z0-9][A-Z0-9-]{1,31}$/;
@@ -19,7 +20,7 @@ const code = z
   .string()
   .regex(LAB_CODE_PATTERN, 'must be 2 to 32 capital letters, digits or hyphens, starting with a letter or digit')
   .meta({ description: 'Short code, unique in the registry; never changes', example: 'DWC' });
-const name = z.string().trim().min(1).max(200).meta({ example: 'Drinking-water chemistry' });
+const name = z.string().trim().min(1).max(200).refine(isPlainText, plainTextOnly).meta({ example: 'Drinking-water chemistry' });
 const timeZone = z
   .string()
   .max(64)

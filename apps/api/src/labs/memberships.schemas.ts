@@ -2,6 +2,7 @@ import { createZodDto } from 'nestjs-zod';
 import { z } from 'zod';
 
 import { LAB_ROLES } from '../auth/actor';
+import { isPlainText, plainTextOnly } from '../common/plain-text';
 
 export const memberParamSchema = z.object({ labId: z.uuid(), personId: z.uuid() }).strict();
 export class MemberParamDto extends createZodDto(memberParamSchema) {}
@@ -14,6 +15,7 @@ export const setMembershipSchema = z
       .trim()
       .min(1)
       .max(100)
+      .refine(isPlainText, plainTextOnly)
       .nullable()
       .optional()
       .meta({ description: 'The lab’s own identifier for the person (e.g. in its sample-management system); unique in the lab' }),

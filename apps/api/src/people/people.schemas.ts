@@ -3,6 +3,7 @@ import { z } from 'zod';
 
 import { LAB_ROLES, REGISTRY_ROLES } from '../auth/actor';
 import { pageQuerySchema } from '../common/pagination';
+import { isPlainText, plainTextOnly } from '../common/plain-text';
 
 /** A person's status: active people may sign in; disabled people cannot, and their sessions ended when disabled. */
 export const PERSON_STATUSES = ['active', 'disabled'] as const;
@@ -13,8 +14,9 @@ const email = z
   .toLowerCase()
   .max(254)
   .regex(/^[^@\s]+@[^@\s]+$/, 'must be an email address')
+  .refine(isPlainText, plainTextOnly)
   .meta({ description: 'Sign-in name, unique in the registry (stored in lower case)', example: 'marta.lindqvist@waterworks.example' });
-const displayName = z.string().trim().min(1).max(200).meta({ example: 'Marta Lindqvist' });
+const displayName = z.string().trim().min(1).max(200).refine(isPlainText, plainTextOnly).meta({ example: 'Marta Lindqvist' });
 const registryRole = z.enum(REGISTRY_ROLES).nullable().meta({
   description: 'administrator: everything incl. people and labs; auditor: reads everything, changes nothing; null: lab roles only',
 });

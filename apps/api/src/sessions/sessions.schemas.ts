@@ -2,11 +2,20 @@ import { createZodDto } from 'nestjs-zod';
 import { z } from 'zod';
 
 import { REGISTRY_ROLES } from '../auth/actor';
+import { isPlainText, plainTextOnly } from '../common/plain-text';
 import { PASSWORD_MAX_LENGTH, PASSWORD_MIN_LENGTH } from './password-policy';
 
 export const signInSchema = z
   .object({
-    email: z.string().trim().toLowerCase().min(1).max(254).meta({ example: 'ines.kovac@waterworks.example' }),
+    // Kept with a failed attempt (throttle and audit entry), so refused like every stored text.
+    email: z
+      .string()
+      .trim()
+      .toLowerCase()
+      .min(1)
+      .max(254)
+      .refine(isPlainText, plainTextOnly)
+      .meta({ example: 'ines.kovac@waterworks.example' }),
     // Longer than any acceptable password, so an old or pasted value is still checked, but bounded.
     password: z.string().min(1).max(1024).meta({ example: 'tap water conductivity at dawn' }),
   })

@@ -9,6 +9,7 @@ import {
   type VesselKind,
 } from '@registry/metrology';
 
+import { characterCount } from '../common/plain-text';
 import type { FieldError } from '../common/problem/problem-catalog';
 
 /*
@@ -129,7 +130,7 @@ export function resolveVessel(spec: VesselSpec): Resolution {
     }
   }
 
-  if (spec.limitOverrideMl !== null && (spec.limitOverrideReason ?? '').trim().length < 3) {
+  if (spec.limitOverrideMl !== null && characterCount((spec.limitOverrideReason ?? '').trim()) < 3) {
     errors.push({ field: 'limitOverrideReason', reason: 'is required (at least 3 characters) with a lab override of the limit' });
   }
   if (errors.length > 0 || expansion === null) return { ok: false, errors };
