@@ -1,13 +1,15 @@
 import { NestFactory } from '@nestjs/core';
 import { FastifyAdapter, type NestFastifyApplication } from '@nestjs/platform-fastify';
 import type { Database } from '@registry/data';
-import type { FastifyInstance } from 'fastify';
+import type { FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
 import type { Logger as PinoLogger } from 'pino';
 
 import { AppModule } from './app.module';
 import type { Clock } from './common/clock';
+import { answerClientError } from './common/http/client-errors';
 import { registerResponseHeaders } from './common/http/security-headers';
 import { requestIdFor } from './common/http/request-id';
+import { sendProblem } from './common/problem/problem.filter';
 import { RequestLogController } from './common/http/request-logging';
 import type { AppConfig } from './config/config.schema';
 import { buildOpenApiDocument, mountDocs } from './docs/openapi';
@@ -37,6 +39,10 @@ export async function createApp({ config, database, logger, clock }: CreateAppOp
     trustProxy: config.http.trustProxy,
     forceCloseConnections: 'idle',
     return503OnClosing: true,
+    // Errors raised before a route runs (a URL that is not valid percent-encoding, an over-long
+    // path parameter, headers over the parser's limit) are problem details like every other.
+    frameworkErrors: (error: Error, request: FastifyRequest, reply: FastifyReply) => sendProblem(error, request, reply),
+    clientErrorHandler: answerClientError,
   });
   const metrics = new HttpMetrics(database.pool);
   const app = await NestFactory.create<NestFastifyApplication>(

@@ -10,6 +10,11 @@ export const PROBLEM_CATALOG = {
     description: 'One or more fields are missing or invalid; see `errors` for each field and the reason.',
   },
   'malformed-body': { status: 400, title: 'The request body is not valid JSON', description: 'The body could not be parsed as JSON.' },
+  'malformed-request': {
+    status: 400,
+    title: 'The request is not valid HTTP',
+    description: 'The request line, a header or the percent-encoding of the URL could not be read.',
+  },
   unauthenticated: {
     status: 401,
     title: 'Sign-in required',
@@ -45,6 +50,11 @@ export const PROBLEM_CATALOG = {
     status: 412,
     title: 'The resource has changed',
     description: 'The If-Match version is stale; read the resource again and retry.',
+  },
+  'request-timeout': {
+    status: 408,
+    title: 'Request not completed in time',
+    description: 'The request line and headers did not arrive in time; send the request again.',
   },
   'payload-too-large': { status: 413, title: 'Request body too large', description: 'The body exceeds the configured limit.' },
   'unsupported-media-type': { status: 415, title: 'Unsupported media type', description: 'Send JSON with Content-Type: application/json.' },
@@ -89,6 +99,11 @@ export const PROBLEM_CATALOG = {
     description: 'Updates need the If-Match header with the version read.',
   },
   'too-many-requests': { status: 429, title: 'Too many requests', description: 'Slow down and retry after the time given in Retry-After.' },
+  'headers-too-large': {
+    status: 431,
+    title: 'Request headers too large',
+    description: 'The request line and headers exceed 16 KiB (usually a very long query string); shorten them.',
+  },
   'internal-error': {
     status: 500,
     title: 'Internal error',

@@ -120,6 +120,14 @@ function fromFastify(error: unknown): Classified | null {
       return { code: 'malformed-body', detail: 'The body is empty but Content-Type is application/json.' };
     case 'FST_ERR_CTP_INVALID_CONTENT_LENGTH':
       return { code: 'malformed-body', detail: 'Content-Length does not match the body.' };
+    case 'FST_ERR_BAD_URL':
+      return { code: 'malformed-request', detail: 'The URL path is not valid percent-encoding.' };
+    case 'FST_ERR_MAX_PARAM_LENGTH':
+      return {
+        code: 'validation-failed',
+        detail: 'A path parameter is longer than any identifier.',
+        errors: [{ field: '(path)', reason: 'a path parameter has more than 100 characters' }],
+      };
   }
   if (e?.statusCode === 400 && (e instanceof SyntaxError || /JSON/i.test(e.message ?? ''))) {
     return { code: 'malformed-body', detail: 'The body is not valid JSON.' };
