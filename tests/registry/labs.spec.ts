@@ -93,6 +93,31 @@ describe('labs and their members', () => {
     await as(cast.tokens.admin).patch(url, { name: 'Late' }, etag).expect(412);
   });
 
+  it('keeps the calibration policies of a lab: defaults, changes by administrators, validated and audited', async () => {
+    const created = await as(cast.tokens.admin).post('/v1/labs', { code: 'POLICY-1', name: 'Policy lab', timeZone: 'UTC' }).expect(201);
+    expect(created.body).toMatchObject({
+      balanceCheckWindowDays: 1,
+      factorValidityDays: 365,
+      allowTraceabilityExceptions: false,
+      quarantineOnFailedCalibration: true,
+    });
+    const changes = {
+      balanceCheckWindowDays: 7,
+      factorValidityDays: 180,
+      allowTraceabilityExceptions: true,
+      quarantineOnFailedCalibration: false,
+    };
+    const updated = await as(cast.tokens.admin).patch(`/v1/labs/${created.body.id}`, changes, created.headers.etag).expect(200);
+    expect(updated.body).toMatchObject({ ...changes, version: 2 });
+    const audit = await t.database.prisma.auditEntry.findFirstOrThrow({
+      where: { entityType: 'lab', entityId: created.body.id, action: 'update' },
+    });
+    expect(audit.newValues).toMatchObject(changes);
+    for (const bad of [{ factorValidityDays: 0 }, { balanceCheckWindowDays: 400 }, { factorValidityDays: 'a year' }]) {
+      await as(cast.tokens.admin).patch(`/v1/labs/${created.body.id}`, bad, '"v2"').expect(400);
+    }
+  });
+
   it('shows members to administrators, auditors and the lab’s managers only', async () => {
     const url = `/v1/labs/${cast.lab.id}/members`;
     for (const token of [cast.tokens.admin, cast.tokens.auditor, cast.tokens.manager]) {

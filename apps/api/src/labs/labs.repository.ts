@@ -8,20 +8,29 @@ export interface Lab {
   readonly name: string;
   readonly timeZone: string;
   readonly fourEyesRequired: boolean;
+  readonly balanceCheckWindowDays: number;
+  readonly factorValidityDays: number;
+  readonly allowTraceabilityExceptions: boolean;
+  readonly quarantineOnFailedCalibration: boolean;
   readonly retiredAt: Date | null;
   readonly version: number;
   readonly createdAt: Date;
   readonly updatedAt: Date;
 }
 
-export interface NewLab {
+export type LabSettings = Pick<
+  Lab,
+  'balanceCheckWindowDays' | 'factorValidityDays' | 'allowTraceabilityExceptions' | 'quarantineOnFailedCalibration'
+>;
+
+export interface NewLab extends Partial<LabSettings> {
   readonly code: string;
   readonly name: string;
   readonly timeZone: string;
   readonly fourEyesRequired: boolean;
 }
 
-export type LabChanges = Partial<Pick<Lab, 'name' | 'timeZone' | 'fourEyesRequired'>>;
+export type LabChanges = Partial<Pick<Lab, 'name' | 'timeZone' | 'fourEyesRequired'> & LabSettings>;
 
 @Injectable()
 export class LabsRepository {

@@ -27,18 +27,43 @@ const timeZone = z
   .refine(isIanaTimeZone, 'must be a canonical IANA time zone such as Europe/Vienna or UTC')
   .meta({ description: 'The lab’s local time zone (due dates and reports)', example: 'Europe/Vienna' });
 const fourEyesRequired = z.boolean().meta({ description: 'Calibrations need a second person’s approval (default true)' });
+/** Policies calibrations and factors read; each optional on create (defaults in the database). */
+const settings = {
+  balanceCheckWindowDays: z
+    .number()
+    .int()
+    .min(1)
+    .max(366)
+    .meta({ description: 'A calibration needs a passing routine check of its balance within this many days before it (default 1)' }),
+  factorValidityDays: z
+    .number()
+    .int()
+    .min(1)
+    .max(3660)
+    .meta({ description: 'How long a personal factor stays valid after its calibration (default 365)' }),
+  allowTraceabilityExceptions: z
+    .boolean()
+    .meta({ description: 'A calibration may be submitted despite a traceability rule, with a recorded reason (default false)' }),
+  quarantineOnFailedCalibration: z.boolean().meta({ description: 'Approving a failed calibration quarantines the vessel (default true)' }),
+};
+const optionalSettings = {
+  balanceCheckWindowDays: settings.balanceCheckWindowDays.optional(),
+  factorValidityDays: settings.factorValidityDays.optional(),
+  allowTraceabilityExceptions: settings.allowTraceabilityExceptions.optional(),
+  quarantineOnFailedCalibration: settings.quarantineOnFailedCalibration.optional(),
+};
 
 export const createLabSchema = z
-  .object({ code, name, timeZone, fourEyesRequired: fourEyesRequired.optional() })
+  .object({ code, name, timeZone, fourEyesRequired: fourEyesRequired.optional(), ...optionalSettings })
   .strict()
   .meta({ example: { code: 'WWL', name: 'Wastewater laboratory', timeZone: 'Europe/Vienna', fourEyesRequired: true } });
 export class CreateLabDto extends createZodDto(createLabSchema) {}
 export type CreateLab = z.infer<typeof createLabSchema>;
 
 export const updateLabSchema = z
-  .object({ name: name.optional(), timeZone: timeZone.optional(), fourEyesRequired: fourEyesRequired.optional() })
+  .object({ name: name.optional(), timeZone: timeZone.optional(), fourEyesRequired: fourEyesRequired.optional(), ...optionalSettings })
   .strict()
-  .refine((v) => Object.values(v).some((x) => x !== undefined), 'give at least one of name, timeZone, fourEyesRequired')
+  .refine((v) => Object.values(v).some((x) => x !== undefined), 'give at least one member to change')
   .meta({ example: { name: 'Teaching laboratory (training bench)', fourEyesRequired: false } });
 export class UpdateLabDto extends createZodDto(updateLabSchema) {}
 export type UpdateLab = z.infer<typeof updateLabSchema>;
@@ -56,6 +81,7 @@ export const labSchema = z.object({
   name: z.string(),
   timeZone: z.string(),
   fourEyesRequired: z.boolean(),
+  ...settings,
   retiredAt: z.iso.datetime().nullable(),
   version: z.number().int().meta({ description: 'Increases with every change; the ETag is "v<version>"' }),
   createdAt: z.iso.datetime(),

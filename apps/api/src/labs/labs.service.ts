@@ -12,7 +12,16 @@ import { presentLab } from './lab.presenter';
 import { type Lab, LabsRepository } from './labs.repository';
 import type { CreateLab, LabListQuery, LabView, UpdateLab } from './labs.schemas';
 
-const snapshot = (lab: Lab) => ({ code: lab.code, name: lab.name, timeZone: lab.timeZone, fourEyesRequired: lab.fourEyesRequired });
+const snapshot = (lab: Lab) => ({
+  code: lab.code,
+  name: lab.name,
+  timeZone: lab.timeZone,
+  fourEyesRequired: lab.fourEyesRequired,
+  balanceCheckWindowDays: lab.balanceCheckWindowDays,
+  factorValidityDays: lab.factorValidityDays,
+  allowTraceabilityExceptions: lab.allowTraceabilityExceptions,
+  quarantineOnFailedCalibration: lab.quarantineOnFailedCalibration,
+});
 
 @Injectable()
 export class LabsService {
