@@ -126,6 +126,9 @@ export function evaluateGravimetricPoint(input: GravimetricPointInput): Gravimet
   });
 
   const volumes = replicates.map((r) => r.volumeMl);
+  // Mean and standard deviation once, for every figure derived from them.
+  const meanVolume = mean(volumes);
+  const s = sampleStandardDeviation(volumes);
   const meanTemperature = mean(replicates.map((r) => r.waterTemperatureC));
   const uncertainty = evaluateVolumeUncertainty({
     model: {
@@ -139,6 +142,7 @@ export function evaluateGravimetricPoint(input: GravimetricPointInput): Gravimet
     },
     waterDensityAtC: (t) => rhoW(t).densityKgPerM3,
     replicateVolumesMl: volumes,
+    replicateStandardDeviationMl: s,
     uncertainties: input.uncertainties,
     ...(input.coverage ? { coverage: input.coverage } : {}),
   });
@@ -151,7 +155,8 @@ export function evaluateGravimetricPoint(input: GravimetricPointInput): Gravimet
     });
   }
 
-  const grubbs = grubbsTest(volumes, input.grubbsAlpha === undefined ? {} : { alpha: input.grubbsAlpha });
+  const known = { mean: meanVolume, standardDeviation: s };
+  const grubbs = grubbsTest(volumes, input.grubbsAlpha === undefined ? { known } : { alpha: input.grubbsAlpha, known });
   if (grubbs.applicable && grubbs.outlier) {
     warnings.push({
       code: 'grubbs-outlier',
@@ -163,9 +168,6 @@ export function evaluateGravimetricPoint(input: GravimetricPointInput): Gravimet
     warnings.push({ code: 'few-replicates', field: 'replicates', message: 'fewer than 3 replicates: repeatability is poorly known' });
   }
 
-  // Mean and standard deviation once, for every figure derived from them.
-  const meanVolume = mean(volumes);
-  const s = sampleStandardDeviation(volumes);
   const sysError = meanVolume.minus(nominal);
   const sys = { mean: meanVolume, error: sysError, errorPercent: sysError.div(nominal).times(100) };
   const a = input.acceptance;

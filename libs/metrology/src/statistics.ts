@@ -87,7 +87,14 @@ export type GrubbsResult =
  * Student t with n − 2 degrees of freedom. It reports; it never removes a
  * replicate. Fewer than 3 values: not applicable.
  */
-export function grubbsTest(values: readonly DecimalInput[], options: { alpha?: DecimalInput } = {}): GrubbsResult {
+export function grubbsTest(
+  values: readonly DecimalInput[],
+  options: {
+    alpha?: DecimalInput;
+    /** The mean and sample standard deviation of `values`, when the caller already has them. */
+    known?: { readonly mean: Decimal; readonly standardDeviation: Decimal };
+  } = {},
+): GrubbsResult {
   const alpha = dec(options.alpha ?? '0.05', 'alpha');
   if (!alpha.greaterThan(0) || alpha.greaterThan(0.5)) {
     throw new MetrologyInputError('alpha', 'must be greater than 0 and at most 0.5', { min: '0', max: '0.5', unit: '1' });
@@ -95,8 +102,8 @@ export function grubbsTest(values: readonly DecimalInput[], options: { alpha?: D
   const xs = decimals(values, 'values', 0);
   const n = xs.length;
   if (n < 3) return { applicable: false, n, reason: 'Grubbs test needs at least 3 replicates' };
-  const m = mean(xs);
-  const s = sampleStandardDeviation(xs);
+  const m = options.known?.mean ?? mean(xs);
+  const s = options.known?.standardDeviation ?? sampleStandardDeviation(xs);
   let suspectIndex = 0;
   xs.forEach((x, i) => {
     if (

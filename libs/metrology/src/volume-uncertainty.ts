@@ -58,6 +58,8 @@ export interface VolumeUncertaintyInput {
   readonly waterDensityAtC?: (temperatureC: Decimal) => Decimal;
   /** Replicate volumes, mL: repeatability u = s/√n with ν = n − 1 (JCGM 100 4.2.3). */
   readonly replicateVolumesMl: readonly DecimalInput[];
+  /** Their sample standard deviation, when the caller already has it. */
+  readonly replicateStandardDeviationMl?: Decimal;
   readonly uncertainties: VolumeStandardUncertainties;
   readonly coverage?: CoverageOptions;
 }
@@ -90,7 +92,7 @@ export function volumeBudgetInputs(input: VolumeUncertaintyInput): {
     if (x.isNegative()) throw new MetrologyInputError(`uncertainties.${field}`, 'must not be negative');
     return x;
   };
-  const rep = repeatability(input.replicateVolumesMl);
+  const rep = repeatability(input.replicateVolumesMl, input.replicateStandardDeviationMl);
   const rhoW0 = m.waterDensityKgPerM3;
   const t0 = m.waterTemperatureC;
   const rhoOf = input.waterDensityAtC ?? tanakaAirFreeDensity;
@@ -189,8 +191,8 @@ export function evaluateVolumeUncertainty(input: VolumeUncertaintyInput): Volume
   };
 }
 
-function repeatability(values: readonly DecimalInput[]): { u: Decimal; nu: Decimal } {
+function repeatability(values: readonly DecimalInput[], known?: Decimal): { u: Decimal; nu: Decimal } {
   if (values.length < 2) throw new MetrologyInputError('replicateVolumesMl', 'needs at least 2 replicates for repeatability');
-  const s = sampleStandardDeviation(values, 'replicateVolumesMl');
+  const s = known ?? sampleStandardDeviation(values, 'replicateVolumesMl');
   return { u: s.div(new Decimal(values.length).sqrt()), nu: new Decimal(values.length - 1) };
 }
