@@ -27,7 +27,7 @@ describe('waterDensity (Tanaka et al. 2001)', () => {
 
   // warsa.de "Water properties" tutorial: print(pure_water_density(20)) -> 998.2067455596167 for the
   // same formula and constants evaluated in binary64. Tolerance 1e-9 kg/m3 covers the binary64 rounding
-  // (about 1e-13 relative); it pins the transcription of a1..a5 to full precision.
+  // (about 1e-13 relative); it pins the constants a1..a5 as coded here to full precision.
   it('reproduces an independent evaluation of the formula at 20 °C to 1e-9 kg/m3', () => {
     expect(rho(20).minus('998.2067455596167').abs().toNumber()).toBeLessThan(1e-9);
   });

@@ -8,7 +8,7 @@ import { MetrologyInputError, type MetrologyWarning } from './errors';
  *
  * Air-free water of SMOW isotopic composition at 101 325 Pa:
  *   rho = a5 [1 - (t + a1)^2 (t + a2) / (a3 (t + a4))]
- * Constants checked against public transcriptions of the paper: the constants
+ * Constants checked against independent published copies of the paper's values: the constants
  * a1..a5 as printed in warsa.de "Water properties" tutorial and in chempy's
  * water_density_tanaka_2001; the compressibility factor k0..k2 and the
  * air-saturation constants s0, s1 (valid 0-25 °C) as given on
