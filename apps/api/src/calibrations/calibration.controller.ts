@@ -1,11 +1,10 @@
-import { Body, Controller, Get, Headers, HttpCode, Param, Patch, Post, Query, UseInterceptors } from '@nestjs/common';
+import { Body, Controller, Get, Headers, HttpCode, Param, Patch, Post, Query } from '@nestjs/common';
 import { ApiBody, ApiOperation, ApiResponse, ApiTags } from '@nestjs/swagger';
 import { ZodResponse } from 'nestjs-zod';
 
 import type { RequestContext } from '../auth/actor';
 import { Ctx, PeopleOnly } from '../auth/auth.decorators';
-import { ItemHeadersInterceptor } from '../inventory/inventory-http';
-import { NeedsIfMatch, WithEtag } from '../labs/etag.interceptor';
+import { NeedsIfMatch, WithEtag, WithLocation } from '../common/http/etag.interceptor';
 import { ApprovalDto, CalibrationDto, CalibrationPageDto, VoidedDto } from './calibration.responses';
 import {
   ApproveCalibrationDto,
@@ -39,7 +38,8 @@ export class CalibrationController {
   ) {}
 
   @Post()
-  @UseInterceptors(ItemHeadersInterceptor)
+  @WithEtag()
+  @WithLocation()
   @ApiOperation({
     summary: 'Record a calibration as a draft (analysts and managers of the vessel’s lab)',
     description:

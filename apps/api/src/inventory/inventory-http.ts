@@ -1,46 +1,14 @@
-import {
-  applyDecorators,
-  type CallHandler,
-  type ExecutionContext,
-  Injectable,
-  type NestInterceptor,
-  UseInterceptors,
-} from '@nestjs/common';
-import { ApiHeader, ApiResponse } from '@nestjs/swagger';
-import type { FastifyReply, FastifyRequest } from 'fastify';
+import { applyDecorators } from '@nestjs/common';
+import { ApiResponse } from '@nestjs/swagger';
 import { createZodDto } from 'nestjs-zod';
-import { map, type Observable } from 'rxjs';
 import { z } from 'zod';
 
 import { CredentialScopes, PeopleOnly } from '../auth/auth.decorators';
-import { etagOf } from '../common/http/concurrency';
+import { NeedsIfMatch, WithEtag, WithLocation } from '../common/http/etag.interceptor';
 
 /** `:id` of an inventory item. */
 export const ItemIdParamSchema = z.strictObject({ id: z.uuid({ error: 'must be a UUID' }) });
 export class ItemIdParamDto extends createZodDto(ItemIdParamSchema) {}
-
-/**
- * Sets `ETag` from the `version` of the item a handler returns and, on a
- * create (201), `Location` pointing at the new item.
- */
-@Injectable()
-export class ItemHeadersInterceptor implements NestInterceptor {
-  intercept(context: ExecutionContext, next: CallHandler): Observable<unknown> {
-    const http = context.switchToHttp();
-    const reply = http.getResponse<FastifyReply>();
-    const request = http.getRequest<FastifyRequest>();
-    return next.handle().pipe(
-      map((body: unknown) => {
-        const item = body as { version?: unknown; id?: unknown } | null;
-        if (typeof item?.version === 'number') void reply.header('etag', etagOf(item.version));
-        if (request.method === 'POST' && typeof item?.id === 'string') {
-          void reply.header('location', `${request.url.split('?')[0]}/${item.id}`);
-        }
-        return body;
-      }),
-    );
-  }
-}
 
 const READ_DOC =
   'Readers: anyone who can read the item’s lab (its analysts and managers, auditors, administrators, service credentials with ' +
@@ -53,21 +21,21 @@ export const InventoryRead = () => applyDecorators(CredentialScopes('inventory:r
 export const InventoryCreate = () =>
   applyDecorators(
     PeopleOnly(),
-    UseInterceptors(ItemHeadersInterceptor),
+    WithEtag(),
+    WithLocation(),
     ApiResponse({ status: 400, description: 'validation-failed: unknown, missing or invalid members, named in `errors`' }),
     ApiResponse({ status: 403, description: 'forbidden: only the lab’s managers or an administrator create items' }),
     ApiResponse({ status: 409, description: 'conflict: the asset tag is already registered (errors name `assetTag`)' }),
   );
 
 /** One item with its ETag. */
-export const InventoryGet = () => applyDecorators(InventoryRead(), UseInterceptors(ItemHeadersInterceptor));
+export const InventoryGet = () => applyDecorators(InventoryRead(), WithEtag());
 
 /** A PATCH route: If-Match required, property-level rules. */
 export const InventoryUpdate = () =>
   applyDecorators(
     PeopleOnly(),
-    UseInterceptors(ItemHeadersInterceptor),
-    ApiHeader({ name: 'if-match', required: true, description: 'The ETag from your last read, e.g. "v3"', example: '"v1"' }),
+    NeedsIfMatch(),
     ApiResponse({
       status: 400,
       description: 'validation-failed: unknown or read-only members (labId, version, id, timestamps), or a missing reason',

@@ -4,7 +4,7 @@ import { ZodResponse } from 'nestjs-zod';
 
 import type { RequestContext } from '../auth/actor';
 import { CredentialScopes, Ctx, PeopleOnly } from '../auth/auth.decorators';
-import { NeedsIfMatch, WithEtag } from './etag.interceptor';
+import { NeedsIfMatch, WithEtag } from '../common/http/etag.interceptor';
 import { CreateLabDto, LabDto, LabIdParamDto, LabListQueryDto, LabPageDto, UpdateLabDto } from './labs.schemas';
 import { LabsService } from './labs.service';
 

@@ -4,7 +4,7 @@ import { ZodResponse } from 'nestjs-zod';
 
 import type { RequestContext } from '../auth/actor';
 import { Ctx, PeopleOnly } from '../auth/auth.decorators';
-import { NeedsIfMatch, WithEtag } from '../labs/etag.interceptor';
+import { NeedsIfMatch, WithEtag } from '../common/http/etag.interceptor';
 import {
   CreatedPersonDto,
   CreatePersonDto,
