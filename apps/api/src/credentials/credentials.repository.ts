@@ -1,7 +1,7 @@
 import { Injectable } from '@nestjs/common';
 
 import type { HashBytes } from '../auth/tokens';
-import type { Db } from '../labs/db';
+import type { Db } from '../common/db';
 
 export interface Credential {
   readonly id: string;

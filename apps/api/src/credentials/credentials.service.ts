@@ -8,7 +8,7 @@ import { newCredentialKey } from '../auth/tokens';
 import { Clock } from '../common/clock';
 import { cursorInstant, decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
 import { DomainError } from '../common/problem/domain-error';
-import type { Db } from '../labs/db';
+import type { Db } from '../common/db';
 import { LabsRepository } from '../labs/labs.repository';
 import type { CreateCredential, CredentialListQuery, CredentialView, IssuedCredentialView } from './credentials.schemas';
 import { type Credential, CredentialsRepository } from './credentials.repository';

@@ -1,7 +1,7 @@
 import { Injectable } from '@nestjs/common';
 import type { Prisma } from '@registry/data';
 
-import type { Db } from '../labs/db';
+import type { Db } from '../common/db';
 import type { FactorReadScope } from './factor-access';
 import type { FactorRecord } from './factor.presenter';
 import type { FactorState } from './factor.schemas';

@@ -1,12 +1,5 @@
+import { isUniqueViolation } from '../common/db';
 import { DomainError } from '../common/problem/domain-error';
-
-/** A unique violation reported by Prisma (P2002) or by PostgreSQL itself (23505). */
-export function isUniqueViolation(error: unknown): boolean {
-  for (let e = error as { code?: unknown; cause?: unknown } | undefined, depth = 0; e && depth < 4; e = e.cause as typeof e, depth++) {
-    if (e.code === 'P2002' || e.code === '23505') return true;
-  }
-  return false;
-}
 
 /** The asset tag is the only unique value a client chooses. */
 export function assetTagTaken(assetTag: string, what: string): DomainError {

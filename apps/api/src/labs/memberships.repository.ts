@@ -1,7 +1,7 @@
 import { Injectable } from '@nestjs/common';
 
 import type { LabRole } from '../auth/actor';
-import { type Db, uniqueOr409 } from './db';
+import { type Db, uniqueOr409 } from '../common/db';
 
 export interface Membership {
   readonly labId: string;

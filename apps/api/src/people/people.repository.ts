@@ -1,6 +1,6 @@
 import { Injectable } from '@nestjs/common';
 
-import { type Db, uniqueOr409 } from '../labs/db';
+import { type Db, uniqueOr409 } from '../common/db';
 
 export interface Person {
   readonly id: string;

@@ -2,7 +2,7 @@ import { Injectable } from '@nestjs/common';
 
 import { AuditWriter } from '../audit/audit-writer';
 import type { AuditContext } from '../auth/actor';
-import type { Db } from '../labs/db';
+import type { Db } from '../common/db';
 import { hashPassword, newInitialPassword } from '../sessions/password-hashing';
 import { type Person, PeopleRepository } from './people.repository';
 import { personSnapshot } from './person.presenter';

@@ -4,7 +4,7 @@ import { PrismaClient } from '@registry/data';
 import { Clock } from '../common/clock';
 import { DomainError } from '../common/problem/domain-error';
 import { APP_CONFIG, type AppConfig } from '../config/config.schema';
-import type { Db } from '../labs/db';
+import type { Db } from '../common/db';
 
 /** Advisory lock class for sign-in counting (objid = hash of the email or address). */
 const LOCK_CLASS = 72707371;

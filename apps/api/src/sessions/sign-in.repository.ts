@@ -1,7 +1,7 @@
 import { Injectable } from '@nestjs/common';
 
 import type { HashBytes } from '../auth/tokens';
-import type { Db } from '../labs/db';
+import type { Db } from '../common/db';
 
 /** What sign-in needs to know about a person. */
 export interface SignInCandidate {

@@ -8,7 +8,7 @@ import { DomainError } from '../common/problem/domain-error';
 import { recordCreations } from '../inventory/bulk-audit';
 import { CsvSyntaxError, parseCsv } from '../inventory/csv';
 import { assertCanCreate } from '../inventory/inventory-access';
-import { isUniqueViolation } from '../inventory/inventory.errors';
+import { isUniqueViolation } from '../common/db';
 import type { VesselRecord } from './vessel.repository';
 import { newVessel, VESSEL } from './vessel.service';
 import {

@@ -1,20 +1,27 @@
 import type { Prisma } from '@registry/data';
 
-import { DomainError } from '../common/problem/domain-error';
+import { DomainError } from './problem/domain-error';
 
 /** What repositories take: the Prisma client or the transaction client of the use case. */
 export type Db = Prisma.TransactionClient;
 
-interface PrismaUniqueViolation {
+interface UniqueViolation {
   code?: unknown;
+  cause?: unknown;
   meta?: { driverAdapterError?: { cause?: { constraint?: { index?: unknown } } } };
 }
 
-/** True for PostgreSQL unique violations as Prisma reports them; with `index`, only for that unique index. */
+/**
+ * True for a unique violation, as Prisma (P2002) or node-postgres (23505)
+ * reports it, also when wrapped; with `index`, only for that unique index
+ * (known from Prisma's report).
+ */
 export function isUniqueViolation(error: unknown, index?: string): boolean {
-  const e = error as PrismaUniqueViolation | null;
-  if (e?.code !== 'P2002') return false;
-  return index === undefined || e.meta?.driverAdapterError?.cause?.constraint?.index === index;
+  for (let e = error as UniqueViolation | undefined, depth = 0; e && depth < 4; e = e.cause as UniqueViolation | undefined, depth++) {
+    if (e.code === 'P2002') return index === undefined || e.meta?.driverAdapterError?.cause?.constraint?.index === index;
+    if (e.code === '23505') return index === undefined;
+  }
+  return false;
 }
 
 /**
