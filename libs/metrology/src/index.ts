@@ -15,3 +15,4 @@ export * from './volume-uncertainty';
 export * from './monte-carlo';
 export * from './gravimetric-run';
 export * from './version';
+export * from './intervals';
