@@ -84,13 +84,16 @@ export async function load(target: LoadTarget, connections: number, durationS: n
 /**
  * A child Node process; its stderr is kept (last lines) for a failure message. Its stdout is
  * discarded unless `readStdout` (then read it, or it fills up and the child stalls).
+ * BENCH_CHILD_NODE_ARGS adds Node options NODE_OPTIONS refuses, e.g. `--cpu-prof --cpu-prof-dir=/tmp/prof`
+ * to profile the servers under load.
  */
 export function startProcess(
   script: string,
   env: Record<string, string>,
   readStdout = false,
 ): { child: ChildProcess; stderr: () => string } {
-  const child = spawn(process.execPath, [script], {
+  const nodeArgs = (process.env.BENCH_CHILD_NODE_ARGS ?? '').split(/\s+/).filter(Boolean);
+  const child = spawn(process.execPath, [...nodeArgs, script], {
     env: { ...process.env, ...env },
     stdio: ['ignore', readStdout ? 'pipe' : 'ignore', 'pipe'],
   });

@@ -8,6 +8,7 @@ import { AuditWriter } from './audit/audit-writer';
 import { AuditTrailModule } from './audit-trail/audit-trail.module';
 import { AuthGuard } from './auth/auth.guard';
 import { Authenticator } from './auth/authenticator';
+import { CredentialCache } from './auth/credential-cache';
 import { MeController } from './auth/me.controller';
 import { BalanceChecksModule } from './balance-checks/balance-checks.module';
 import { CalibrationsModule } from './calibrations/calibrations.module';
@@ -48,6 +49,7 @@ export class AppModule {
       { provide: Pool, useValue: deps.database.pool },
       { provide: HttpMetrics, useValue: deps.metrics },
       { provide: Clock, useValue: deps.clock ?? new SystemClock() },
+      { provide: CredentialCache, useClass: CredentialCache },
       { provide: Authenticator, useClass: Authenticator },
       { provide: AuditWriter, useClass: AuditWriter },
     ];

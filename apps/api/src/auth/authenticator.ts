@@ -5,6 +5,7 @@ import { Pool } from 'pg';
 import { Clock } from '../common/clock';
 import { APP_CONFIG, type AppConfig } from '../config/config.schema';
 import type { Actor, LabRole, RegistryRole, Scope } from './actor';
+import { CredentialCache } from './credential-cache';
 import { type HashBytes, type ParsedBearer, sameHash } from './tokens';
 
 /** Writes of "last seen/used" are skipped when the stored value is younger than this. */
@@ -43,6 +44,7 @@ export class Authenticator {
     private readonly pool: Pool,
     private readonly clock: Clock,
     @Inject(APP_CONFIG) private readonly config: AppConfig,
+    private readonly cache: CredentialCache<CredentialRow | null>,
   ) {}
 
   /** When this process last wrote a credential's last use: concurrent requests must not all write it. */
@@ -78,10 +80,9 @@ export class Authenticator {
   }
 
   private async credential(keyId: string, secretHash: HashBytes): Promise<Actor | null> {
-    const { rows } = await this.pool.query<CredentialRow>({ ...CREDENTIAL_BY_KEY_ID, values: [keyId] });
-    const credential = rows[0];
-    if (!credential || credential.revoked_at || !sameHash(credential.secret_hash, secretHash)) return null;
     const now = this.clock.now();
+    const credential = await this.credentialRow(keyId, now.getTime());
+    if (!credential || credential.revoked_at || !sameHash(credential.secret_hash, secretHash)) return null;
     const touched = Math.max(credential.last_used_at?.getTime() ?? -Infinity, this.credentialTouchedAt.get(credential.id) ?? -Infinity);
     if (now.getTime() - touched > TOUCH_EVERY_MS) {
       if (this.credentialTouchedAt.size > 10_000) this.credentialTouchedAt.clear();
@@ -95,5 +96,17 @@ export class Authenticator {
       scopes: new Set(credential.scopes as Scope[]),
       labs: credential.all_labs ? 'all' : new Set(credential.lab_ids),
     };
+  }
+
+  /** The credential's row, from the cache while it is fresh (see CredentialCache), else from the database. */
+  private async credentialRow(keyId: string, nowMs: number): Promise<CredentialRow | null> {
+    const cached = this.cache.get(keyId, nowMs);
+    if (cached !== undefined) return cached;
+    const ticket = this.cache.ticket();
+    const { rows } = await this.pool.query<CredentialRow>({ ...CREDENTIAL_BY_KEY_ID, values: [keyId] });
+    const row = rows[0] ?? null;
+    // Unknown keys are not remembered: a flood of made-up keys must not evict the real ones.
+    if (row) this.cache.put(keyId, row, nowMs, ticket);
+    return row;
   }
 }

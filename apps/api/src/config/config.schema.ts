@@ -23,6 +23,9 @@ export const configSchema = z.object({
   DB_CONNECT_TIMEOUT_MS: positiveInt.default(3000),
   BODY_LIMIT_BYTES: positiveInt.default(1_048_576),
   SHUTDOWN_GRACE_MS: positiveInt.default(10_000),
+  // The due-date scheduler (notices); unset = on, except under NODE_ENV=test.
+  SCHEDULER_ENABLED: z.enum(['true', 'false']).optional(),
+  SCHEDULER_PERIOD_SECONDS: positiveInt.min(5).max(86_400).default(300),
   CORS_ORIGINS: z
     .string()
     .trim()
@@ -38,10 +41,37 @@ export const configSchema = z.object({
   SESSION_ABSOLUTE_HOURS: positiveInt.max(24 * 30).default(12),
   SIGN_IN_MAX_FAILURES: positiveInt.max(1000).default(5),
   SIGN_IN_WINDOW_MINUTES: positiveInt.max(24 * 60).default(15),
+  CREDENTIAL_CACHE_SECONDS: z.coerce.number().int().min(0).max(300).default(30),
   TRUST_PROXY: z
     .enum(['true', 'false'])
     .default('false')
     .transform((v) => v === 'true'),
+  // Notice delivery (webhooks and e-mail); see the README's "Notices by webhook and e-mail".
+  WEBHOOK_SECRET_KEY: z
+    .string()
+    .trim()
+    .refine((v) => /^[A-Za-z0-9+/]{43}=$/.test(v) && Buffer.from(v, 'base64').length === 32, {
+      error: 'must be 32 random bytes in base64 (openssl rand -base64 32)',
+    })
+    .optional(),
+  SMTP_URL: z
+    .string()
+    .trim()
+    .refine((v) => /^smtps?:\/\/[^\s]+$/.test(v) && URL.canParse(v), { error: 'must be an smtp:// or smtps:// URL' })
+    .optional(),
+  MAIL_FROM: z
+    .string()
+    .trim()
+    .max(300)
+    .refine((v) => /^([^<>\r\n]*<[^\s<>@]+@[^\s<>@]+>|[^\s<>@]+@[^\s<>@]+)$/.test(v), {
+      error: 'must be an address, optionally with a name: Registry <registry@waterworks.example>',
+    })
+    .optional(),
+  DELIVERY_WORKER_PERIOD_MS: z.coerce.number().int().min(0).max(3_600_000).optional(),
+  DELIVERY_MAX_ATTEMPTS: positiveInt.max(50).default(8),
+  DELIVERY_RETRY_BASE_MS: positiveInt.max(86_400_000).default(60_000),
+  DELIVERY_RETRY_MAX_MS: positiveInt.max(7 * 86_400_000).default(6 * 3_600_000),
+  DELIVERY_TIMEOUT_MS: positiveInt.max(120_000).default(10_000),
 });
 
 export type EnvInput = z.input<typeof configSchema>;
@@ -71,14 +101,36 @@ export interface AppConfig {
     readonly sessionAbsoluteMs: number;
     readonly signInMaxFailures: number;
     readonly signInWindowMs: number;
+    /** How long a verified service credential is reused without reading it again; 0 = never. */
+    readonly credentialCacheMs: number;
   };
   readonly logLevel: Env['LOG_LEVEL'];
   readonly shutdownGraceMs: number;
+  /** The due-date scheduler: whether this instance runs passes on its own, and how often. */
+  readonly scheduler: { readonly enabled: boolean; readonly periodMs: number };
+  readonly delivery: DeliveryConfig;
+}
+
+/** Notice delivery: the worker, its retries, and the channels (each off when not configured). */
+export interface DeliveryConfig {
+  /** How often the worker looks for due deliveries; 0 = no worker in this process (the default under NODE_ENV=test). */
+  readonly workerPeriodMs: number;
+  readonly maxAttempts: number;
+  readonly retryBaseMs: number;
+  readonly retryMaxMs: number;
+  readonly timeoutMs: number;
+  /** Base64 of the 32-byte key that seals webhook secrets; null = webhooks cannot be registered. */
+  readonly webhookSecretKey: string | null;
+  /** null = no e-mail. */
+  readonly smtp: { readonly url: string; readonly from: string } | null;
 }
 
 export class ConfigError extends Error {
   override readonly name = 'ConfigError';
 }
+
+/** Variables whose value may hold a key or a password: a bad one is named, never echoed. */
+const SECRET_VARIABLES = new Set(['WEBHOOK_SECRET_KEY', 'SMTP_URL']);
 
 /** Parses the environment; a bad value throws one line naming the variable. */
 export function parseConfig(source: Record<string, string | undefined>): AppConfig {
@@ -87,9 +139,13 @@ export function parseConfig(source: Record<string, string | undefined>): AppConf
   if (!result.success) {
     const issue = result.error.issues[0];
     const name = String(issue?.path[0] ?? 'environment');
-    throw new ConfigError(`Invalid configuration: ${name} ${issue?.message ?? 'is invalid'} (got ${JSON.stringify(source[name] ?? '')})`);
+    const got = SECRET_VARIABLES.has(name) ? '(value not shown)' : `(got ${JSON.stringify(source[name] ?? '')})`;
+    throw new ConfigError(`Invalid configuration: ${name} ${issue?.message ?? 'is invalid'} ${got}`);
   }
   const e = result.data;
+  if (e.SMTP_URL && !e.MAIL_FROM) {
+    throw new ConfigError('Invalid configuration: MAIL_FROM is required when SMTP_URL is set (got "")');
+  }
   return {
     env: e.NODE_ENV,
     http: { port: e.PORT, host: e.HOST, bodyLimitBytes: e.BODY_LIMIT_BYTES, corsOrigins: e.CORS_ORIGINS, trustProxy: e.TRUST_PROXY },
@@ -106,9 +162,23 @@ export function parseConfig(source: Record<string, string | undefined>): AppConf
       sessionAbsoluteMs: e.SESSION_ABSOLUTE_HOURS * 3_600_000,
       signInMaxFailures: e.SIGN_IN_MAX_FAILURES,
       signInWindowMs: e.SIGN_IN_WINDOW_MINUTES * 60_000,
+      credentialCacheMs: e.CREDENTIAL_CACHE_SECONDS * 1000,
     },
     logLevel: e.LOG_LEVEL,
     shutdownGraceMs: e.SHUTDOWN_GRACE_MS,
+    scheduler: {
+      enabled: e.SCHEDULER_ENABLED === undefined ? e.NODE_ENV !== 'test' : e.SCHEDULER_ENABLED === 'true',
+      periodMs: e.SCHEDULER_PERIOD_SECONDS * 1000,
+    },
+    delivery: {
+      workerPeriodMs: e.DELIVERY_WORKER_PERIOD_MS ?? (e.NODE_ENV === 'test' ? 0 : 15_000),
+      maxAttempts: e.DELIVERY_MAX_ATTEMPTS,
+      retryBaseMs: e.DELIVERY_RETRY_BASE_MS,
+      retryMaxMs: Math.max(e.DELIVERY_RETRY_MAX_MS, e.DELIVERY_RETRY_BASE_MS),
+      timeoutMs: e.DELIVERY_TIMEOUT_MS,
+      webhookSecretKey: e.WEBHOOK_SECRET_KEY ?? null,
+      smtp: e.SMTP_URL && e.MAIL_FROM ? { url: e.SMTP_URL, from: e.MAIL_FROM } : null,
+    },
   };
 }
 

@@ -5,6 +5,7 @@ import { AuditWriter } from '../audit/audit-writer';
 import type { Actor, RequestContext, Scope } from '../auth/actor';
 import { assertAdministrator } from '../auth/access-policy';
 import { newCredentialKey } from '../auth/tokens';
+import { CredentialCache } from '../auth/credential-cache';
 import { Clock } from '../common/clock';
 import { cursorInstant, decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
 import { DomainError } from '../common/problem/domain-error';
@@ -55,6 +56,7 @@ export class CredentialsService {
     private readonly labs: LabsRepository,
     private readonly audit: AuditWriter,
     private readonly clock: Clock,
+    private readonly cache: CredentialCache,
   ) {}
 
   async create(ctx: RequestContext, body: CreateCredential): Promise<IssuedCredentialView> {
@@ -94,7 +96,7 @@ export class CredentialsService {
   async rotate(ctx: RequestContext, id: string): Promise<IssuedCredentialView> {
     assertAdministrator(ctx.actor);
     const now = this.clock.now();
-    return this.prisma.$transaction(async (tx) => {
+    const issued = await this.prisma.$transaction(async (tx) => {
       const old = await this.existing(tx, id);
       if (!(await this.credentials.revoke(tx, id, now))) {
         throw new DomainError('conflict', 'This credential is revoked; issue a new one instead of rotating it.');
@@ -107,8 +109,11 @@ export class CredentialsService {
         oldValues: { revokedAt: null },
         newValues: { revokedAt: now, replacedById: issued.id },
       });
-      return issued;
+      return { issued, keyId: old.keyId };
     });
+    // The database also announces it to every instance; this one need not wait for that.
+    this.cache.forget(issued.keyId);
+    return issued.issued;
   }
 
   /** Stops the credential at once. Revoking a revoked credential changes nothing. */
@@ -128,6 +133,7 @@ export class CredentialsService {
       }
       return (await this.credentials.findById(tx, id)) ?? before;
     });
+    this.cache.forget(credential.keyId);
     return present(credential);
   }
 
