@@ -11,10 +11,12 @@ import { Authenticator } from './auth/authenticator';
 import { CredentialCache } from './auth/credential-cache';
 import { MeController } from './auth/me.controller';
 import { BalanceChecksModule } from './balance-checks/balance-checks.module';
+import { CalendarFeedsModule } from './calendar-feeds/calendar-feeds.module';
 import { CalibrationsModule } from './calibrations/calibrations.module';
 import { CalculationsModule } from './calculations/calculations.module';
 import { Clock, SystemClock } from './common/clock';
 import { CredentialsModule } from './credentials/credentials.module';
+import { DueModule } from './due/due.module';
 import { FactorsModule } from './factors/factors.module';
 import { APP_CONFIG, type AppConfig } from './config/config.schema';
 import { ProblemFilter } from './common/problem/problem.filter';
@@ -26,8 +28,11 @@ import { InventoryModule } from './inventory/inventory.module';
 import { LabsModule } from './labs/labs.module';
 import { HttpMetrics } from './metrics/metrics';
 import { MetricsController } from './metrics/metrics.controller';
+import { NoticesModule } from './notices/notices.module';
 import { PeopleModule } from './people/people.module';
+import { PoliciesModule } from './policies/policies.module';
 import { ReferenceModule } from './reference/reference.module';
+import { SchedulerModule } from './scheduler/scheduler.module';
 import { SessionsModule } from './sessions/sessions.module';
 
 export interface AppDependencies {
@@ -68,6 +73,11 @@ export class AppModule {
         BalanceChecksModule,
         ImpactModule,
         FactorsModule,
+        PoliciesModule,
+        DueModule,
+        NoticesModule,
+        SchedulerModule,
+        CalendarFeedsModule,
       ],
       controllers: [HealthController, MetricsController, ProblemTypesController, MeController],
       providers: [
