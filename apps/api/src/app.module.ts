@@ -18,6 +18,7 @@ import { Clock, SystemClock } from './common/clock';
 import { CredentialsModule } from './credentials/credentials.module';
 import { DueModule } from './due/due.module';
 import { FactorsModule } from './factors/factors.module';
+import { ExportsModule } from './exports/exports.module';
 import { APP_CONFIG, type AppConfig } from './config/config.schema';
 import { ProblemFilter } from './common/problem/problem.filter';
 import { ProblemTypesController } from './common/problem/problem-types.controller';
@@ -73,6 +74,7 @@ export class AppModule {
         BalanceChecksModule,
         ImpactModule,
         FactorsModule,
+        ExportsModule,
         PoliciesModule,
         DueModule,
         NoticesModule,

@@ -38,8 +38,9 @@ const BATCH = 5_000;
  * Recomputes every entry's SHA-256 in Node (independently of the database's
  * own function) over the same canonical text, and checks that each entry
  * names its predecessor's hash and that sequence numbers have no gap.
+ * With `occurredUpTo`, the chain as it stood then (entries up to that instant).
  */
-export async function verifyChain(pool: Pool): Promise<ChainReport> {
+export async function verifyChain(pool: Pool, options: { readonly occurredUpTo?: Date } = {}): Promise<ChainReport> {
   let checked = 0;
   let previous: { seq: bigint; hash: Buffer } | null = null;
   for (;;) {
@@ -48,8 +49,8 @@ export async function verifyChain(pool: Pool): Promise<ChainReport> {
       `SELECT seq::text, id::text, to_char(occurred_at AT TIME ZONE 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.US"Z"') AS occurred,
               actor_kind, actor_id::text, action, entity_type, entity_id, lab_id::text,
               old_values::text, new_values::text, reason, request_id, prev_hash, entry_hash
-         FROM audit_entries a WHERE a.seq > $1 ORDER BY a.seq LIMIT ${BATCH}`,
-      [after.toString()],
+         FROM audit_entries a WHERE a.seq > $1 AND ($2::timestamptz IS NULL OR a.occurred_at <= $2) ORDER BY a.seq LIMIT ${BATCH}`,
+      [after.toString(), options.occurredUpTo ?? null],
     );
     for (const row of rows) {
       const seq: bigint = BigInt(row.seq);
