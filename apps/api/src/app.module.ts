@@ -16,6 +16,7 @@ import { CalibrationsModule } from './calibrations/calibrations.module';
 import { CalculationsModule } from './calculations/calculations.module';
 import { Clock, SystemClock } from './common/clock';
 import { CredentialsModule } from './credentials/credentials.module';
+import { DeliveriesModule } from './deliveries/deliveries.module';
 import { DueModule } from './due/due.module';
 import { FactorsModule } from './factors/factors.module';
 import { ExportsModule } from './exports/exports.module';
@@ -35,6 +36,7 @@ import { PoliciesModule } from './policies/policies.module';
 import { ReferenceModule } from './reference/reference.module';
 import { SchedulerModule } from './scheduler/scheduler.module';
 import { SessionsModule } from './sessions/sessions.module';
+import { WebhooksModule } from './webhooks/webhooks.module';
 
 export interface AppDependencies {
   readonly config: AppConfig;
@@ -80,6 +82,8 @@ export class AppModule {
         NoticesModule,
         SchedulerModule,
         CalendarFeedsModule,
+        WebhooksModule,
+        DeliveriesModule,
       ],
       controllers: [HealthController, MetricsController, ProblemTypesController, MeController],
       providers: [

@@ -109,6 +109,12 @@ export const PROBLEM_CATALOG = {
     title: 'Internal error',
     description: 'An unexpected error occurred; quote the request id when reporting it.',
   },
+  'webhooks-not-configured': {
+    status: 409,
+    title: 'Webhooks are not configured on this service',
+    description:
+      'Webhook signing secrets are stored encrypted under WEBHOOK_SECRET_KEY, which this service does not have; an operator sets it (32 random bytes in base64) and restarts.',
+  },
   'service-unavailable': {
     status: 503,
     title: 'Service temporarily unavailable',
