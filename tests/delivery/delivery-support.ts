@@ -115,3 +115,55 @@ export function readmeRecipe(): Verify {
 export async function deliveriesOf(prisma: PrismaClient, noticeId: string) {
   return prisma.noticeDelivery.findMany({ where: { noticeId }, orderBy: [{ channel: 'asc' }, { target: 'asc' }] });
 }
+
+/** A webhook straight into the database, its secret sealed under no key in use (it is never sent from). */
+export async function seedWebhook(prisma: PrismaClient, labId: string, createdById: string) {
+  const now = new Date();
+  return prisma.webhook.create({
+    data: {
+      labId,
+      url: 'https://lims.waterworks.example/hooks/registry',
+      description: 'Sample-management system',
+      eventKinds: ['due-soon', 'overdue'],
+      secretSealed: new Uint8Array(randomBytes(64)),
+      secretKeyRef: '0000000000000000',
+      secretRotatedAt: now,
+      createdById,
+      createdAt: now,
+      updatedAt: now,
+    },
+  });
+}
+
+/** A notice of the lab whose webhook delivery used its only attempt and failed. */
+export async function seedFailedDelivery(prisma: PrismaClient, labId: string, createdById: string) {
+  const webhook = await seedWebhook(prisma, labId, createdById);
+  const notice = await prisma.notice.create({
+    data: {
+      labId,
+      eventKind: 'overdue',
+      subjectKind: 'vessel',
+      subjectId: crypto.randomUUID(),
+      subjectLabel: `VF-100-${randomBytes(2).toString('hex').toUpperCase()}`,
+      dueOn: new Date('2026-11-30T00:00:00Z'),
+    },
+  });
+  const now = new Date();
+  return prisma.noticeDelivery.create({
+    data: {
+      noticeId: notice.id,
+      labId,
+      channel: 'webhook',
+      webhookId: webhook.id,
+      target: webhook.url,
+      state: 'failed',
+      attempts: 1,
+      attemptLimit: 1,
+      lastAttemptAt: now,
+      lastStatusCode: 500,
+      lastError: 'the endpoint answered 500',
+      failedAt: now,
+      createdAt: now,
+    },
+  });
+}

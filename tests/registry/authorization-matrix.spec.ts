@@ -3,6 +3,7 @@ import { subscribe, unsubscribe } from 'node:diagnostics_channel';
 import { EXAMPLES } from '../../apps/api/src/calculations/calculations.examples';
 import { bearer, seedBalance, seedCredential, seedInstrument, seedPerson, seedReferenceWeight, seedVessel } from '../support/factories';
 import { startTestApp } from '../support/test-app';
+import { seedFailedDelivery, seedWebhook, TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
 import { type Caller, CALLERS, buildWorld, fresh, NEW_PASSWORD, PASSWORD, type World } from './authorization-world';
 
 /*
@@ -201,6 +202,18 @@ const TABLE: readonly Row[] = [
   r('401 200 200 200 200 404 403 403 200 403 403 404 401 401', 'POST /v1/balances/:balanceId/weighing-corrections', post((w) => `/v1/balances/${w.items.balance.id}/weighing-corrections`, () => ({ readingG: '24.9562', objectDensityKgPerM3: '997.9', airDensityKgPerM3: '1.166' }))),
   r('401 200 403 200 403 404 403 403 403 403 403 403 401 401', 'POST /v1/instruments/:instrumentId/out-of-tolerance', async (w) => ({
     path: `/v1/instruments/${(await seedInstrument(w.prisma, w.labA)).id}/out-of-tolerance`, body: { foundAt: new Date(Date.now() - 60_000).toISOString(), reason: 'Reads 0.4 K high at 20 °C' } })),
+
+  r('401 201 403 201 403 404 403 403 403 403 403 403 401 401', 'POST /v1/labs/:labId/webhooks', post((w) => `/v1/labs/${w.labA}/webhooks`, () => ({ url: 'https://lims.waterworks.example/hooks/registry', eventKinds: ['due-soon'] }))),
+  r('401 200 200 200 403 404 403 403 403 403 403 403 401 401', 'GET /v1/labs/:labId/webhooks', at((w) => `/v1/labs/${w.labA}/webhooks`)),
+  r('401 200 200 200 403 404 403 403 403 403 403 403 401 401', 'GET /v1/labs/:labId/webhooks/:webhookId', async (w) => ({
+    path: `/v1/labs/${w.labA}/webhooks/${(await seedWebhook(w.prisma, w.labA, w.people.admin.id)).id}` })),
+  r('401 200 403 200 403 404 403 403 403 403 403 403 401 401', 'PATCH /v1/labs/:labId/webhooks/:webhookId', async (w) => ({
+    path: `/v1/labs/${w.labA}/webhooks/${(await seedWebhook(w.prisma, w.labA, w.people.admin.id)).id}`, ifMatch: '"v1"', body: { enabled: false } })),
+  r('401 200 403 200 403 404 403 403 403 403 403 403 401 401', 'POST /v1/labs/:labId/webhooks/:webhookId/rotate-secret', async (w) => ({
+    path: `/v1/labs/${w.labA}/webhooks/${(await seedWebhook(w.prisma, w.labA, w.people.admin.id)).id}/rotate-secret` })),
+  r('401 200 200 200 403 404 403 403 403 403 403 403 401 401', 'GET /v1/labs/:labId/deliveries', at((w) => `/v1/labs/${w.labA}/deliveries`)),
+  r('401 200 403 200 403 404 403 403 403 403 403 403 401 401', 'POST /v1/labs/:labId/deliveries/:deliveryId/redeliver', async (w) => ({
+    path: `/v1/labs/${w.labA}/deliveries/${(await seedFailedDelivery(w.prisma, w.labA, w.people.admin.id)).id}/redeliver` })),
 ];
 
 /** Routes that are not the API's own: the interactive docs' static files. */
@@ -225,7 +238,7 @@ describe('authorization matrix', () => {
     };
     subscribe('fastify.initialization', collect);
     try {
-      w = await buildWorld(await startTestApp());
+      w = await buildWorld(await startTestApp({ WEBHOOK_SECRET_KEY: TEST_WEBHOOK_KEY }));
     } finally {
       unsubscribe('fastify.initialization', collect);
     }
