@@ -147,7 +147,11 @@ export function exportAs(t: TestApp, token: string, body: Record<string, unknown
     .parse((res, done) => {
       const chunks: Buffer[] = [];
       res.on('data', (c: Buffer) => chunks.push(c));
-      res.on('end', () => done(null, Buffer.concat(chunks)));
+      res.on('end', () => {
+        const bytes = Buffer.concat(chunks);
+        // Refusals are problem documents: parsed, so tests read `code` and `errors`.
+        done(null, /json/.test(String(res.headers['content-type'])) && !/ndjson/.test(String(res.headers['content-type'])) ? JSON.parse(bytes.toString('utf8')) : bytes);
+      });
     });
 }
 

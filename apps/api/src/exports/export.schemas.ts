@@ -31,7 +31,7 @@ export const MAX_EXPORT_LABS = 100;
 
 const instant = (description: string, example: string) =>
   z.iso
-    .datetime({ offset: true, error: 'must be an ISO 8601 date-time with a zone, e.g. 2026-01-01T00:00:00Z' })
+    .datetime({ offset: true, abort: true, error: 'must be an ISO 8601 date-time with a zone, e.g. 2026-01-01T00:00:00Z' })
     .refine(inStoredYears, storedYears)
     .meta({ description, example });
 
