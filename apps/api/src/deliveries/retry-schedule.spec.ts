@@ -15,7 +15,8 @@ describe('retry schedule', () => {
   });
 
   it('never waits longer than the cap, however many failures', () => {
-    expect(retryDelayMs(9, base, max, 0)).toBe(max);
+    expect(retryDelayMs(9, base, max, 0)).toBe(15_360_000);
+    expect(retryDelayMs(10, base, max, 0)).toBe(max);
     expect(retryDelayMs(1_000, base, max, 0)).toBe(max);
   });
 });
