@@ -1,3 +1,4 @@
+import { randomBytes } from 'node:crypto';
 import { subscribe, unsubscribe } from 'node:diagnostics_channel';
 
 import { EXAMPLES } from '../../apps/api/src/calculations/calculations.examples';
@@ -117,6 +118,19 @@ const factorQuery = (whose: 'factor' | 'colleagueFactor') => (w: World) => ({
   vesselId: w.items.factorVessel.id,
 });
 
+/** A completed export of lab A, straight into the database. */
+async function seedExport(w: World): Promise<string> {
+  const at = new Date('2026-06-30T12:00:00Z');
+  const e = await w.prisma.export.create({
+    data: {
+      report: 'calibration-log', format: 'csv', requestedById: w.people.admin.id, allLabs: false, labIds: [w.labA],
+      periodFrom: new Date('2026-01-01T00:00:00Z'), periodTo: at, asOf: at, parameters: {}, state: 'completed',
+      startedAt: at, endedAt: at, rowCount: 0n, byteCount: 10n, sha256: new Uint8Array(randomBytes(32)),
+    },
+  });
+  return e.id;
+}
+
 // prettier-ignore
 const TABLE: readonly Row[] = [
   //  anon adm aud mgA anA mgB otp f:r c:w c:r i:r crB exp rev
@@ -214,6 +228,12 @@ const TABLE: readonly Row[] = [
   r('401 200 200 200 403 404 403 403 403 403 403 403 401 401', 'GET /v1/labs/:labId/deliveries', at((w) => `/v1/labs/${w.labA}/deliveries`)),
   r('401 200 403 200 403 404 403 403 403 403 403 403 401 401', 'POST /v1/labs/:labId/deliveries/:deliveryId/redeliver', async (w) => ({
     path: `/v1/labs/${w.labA}/deliveries/${(await seedFailedDelivery(w.prisma, w.labA, w.people.admin.id)).id}/redeliver` })),
+
+  r('401 200 200 200 403 404 403 403 403 403 403 403 401 401', 'POST /v1/exports', post(() => '/v1/exports', (w) => ({ report: 'inventory-register', format: 'csv', labIds: [w.labA], from: '2026-01-01T00:00:00Z', to: '2027-01-01T00:00:00Z' })), { note: 'lab A' }),
+  r('401 200 200 200 403 200 403 403 403 403 403 403 401 401', 'GET /v1/exports', at(() => '/v1/exports')),
+  r('401 200 200 200 403 404 403 403 403 403 403 403 401 401', 'GET /v1/exports/:exportId', async (w) => ({ path: `/v1/exports/${await seedExport(w)}` }), { note: 'an export of lab A' }),
+  r('401 200 200 200 403 200 403 403 403 403 403 403 401 401', 'POST /v1/exports/verification', post(() => '/v1/exports/verification', () => ({ sha256: randomBytes(32).toString('hex') }))),
+  r('401 200 200 200 403 200 403 403 403 403 403 403 401 401', 'POST /v1/exports/verification/file', () => ({ path: '/v1/exports/verification/file', csv: 'lab,asset_tag\r\nDW-CHEM,PIP-25-001\r\n' })),
 ];
 
 /** Routes that are not the API's own: the interactive docs' static files. */
