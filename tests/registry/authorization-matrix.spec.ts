@@ -1,7 +1,9 @@
 import { randomBytes } from 'node:crypto';
 import { subscribe, unsubscribe } from 'node:diagnostics_channel';
 
+import { sha256 } from '../../apps/api/src/auth/tokens';
 import { EXAMPLES } from '../../apps/api/src/calculations/calculations.examples';
+import { ACCURACY_CLASSES, VESSEL_KINDS } from '../../apps/api/src/policies/due-policy.schemas';
 import { bearer, seedBalance, seedCredential, seedInstrument, seedPerson, seedReferenceWeight, seedVessel } from '../support/factories';
 import { startTestApp } from '../support/test-app';
 import { seedFailedDelivery, seedWebhook, TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
@@ -118,6 +120,51 @@ const factorQuery = (whose: 'factor' | 'colleagueFactor') => (w: World) => ({
   vesselId: w.items.factorVessel.id,
 });
 
+/** Due dates: a fresh scope per policy (the lab has one policy per vessel kind and class), notices and feeds of lab A. */
+const POLICY_SCOPES = VESSEL_KINDS.flatMap((vesselKind) => ACCURACY_CLASSES.map((accuracyClass) => ({ vesselKind, accuracyClass })));
+let policyScopes = 0;
+const policyScope = () => POLICY_SCOPES[policyScopes++ % POLICY_SCOPES.length] as (typeof POLICY_SCOPES)[number];
+const policyBody = (w: World) => ({
+  labId: w.labA,
+  subjectKind: 'vessel',
+  ...policyScope(),
+  intervalDays: 365,
+  dueSoonDays: 30,
+  reason: 'Matrix policy',
+});
+const seedPolicy = async (w: World) =>
+  (
+    await w.prisma.duePolicy.create({
+      data: { labId: w.labA, subjectKind: 'vessel', ...policyScope(), intervalDays: 365, dueSoonDays: 30 },
+    })
+  ).id;
+let sharedPolicy: Promise<string> | null = null;
+/** One policy of lab A that reads look at (each write gets its own). */
+const readPolicy = (w: World) => (sharedPolicy ??= seedPolicy(w));
+/** A notice about an item of lab A, addressed to lab A's manager. */
+async function seedNotice(w: World): Promise<string> {
+  const weight = await seedReferenceWeight(w.prisma, w.labA);
+  const notice = await w.prisma.notice.create({
+    data: {
+      labId: w.labA,
+      eventKind: 'overdue',
+      subjectKind: 'reference-weight',
+      subjectId: weight.id,
+      subjectLabel: weight.assetTag,
+      dueOn: new Date('2026-11-20T00:00:00Z'),
+    },
+  });
+  await w.prisma.noticeRecipient.create({ data: { noticeId: notice.id, personId: w.people.manager.id } });
+  return notice.id;
+}
+async function seedFeed(w: World): Promise<{ id: string; token: string }> {
+  const token = `rcal_${randomBytes(32).toString('base64url')}`;
+  const feed = await w.prisma.calendarFeed.create({
+    data: { labId: w.labA, name: 'Matrix feed', tokenHash: sha256(token), createdById: w.people.manager.id },
+  });
+  return { id: feed.id, token };
+}
+
 /** A completed export of lab A, straight into the database. */
 async function seedExport(w: World): Promise<string> {
   const at = new Date('2026-06-30T12:00:00Z');
@@ -228,6 +275,20 @@ const TABLE: readonly Row[] = [
   r('401 200 200 200 403 404 403 403 403 403 403 403 401 401', 'GET /v1/labs/:labId/deliveries', at((w) => `/v1/labs/${w.labA}/deliveries`)),
   r('401 200 403 200 403 404 403 403 403 403 403 403 401 401', 'POST /v1/labs/:labId/deliveries/:deliveryId/redeliver', async (w) => ({
     path: `/v1/labs/${w.labA}/deliveries/${(await seedFailedDelivery(w.prisma, w.labA, w.people.admin.id)).id}/redeliver` })),
+  r('401 200 200 200 200 200 403 403 403 403 200 200 401 401', 'GET /v1/due', at(() => '/v1/due')),
+  r('401 200 200 200 200 404 403 403 403 403 200 404 401 401', 'GET /v1/due', at(() => '/v1/due', (w) => ({ labId: w.labA })), { note: '?labId=lab A' }),
+  r('401 201 403 201 403 404 403 403 403 403 403 403 401 401', 'POST /v1/due-policies', post(() => '/v1/due-policies', policyBody)),
+  r('401 200 200 200 200 200 403 403 403 403 403 403 401 401', 'GET /v1/due-policies', at(() => '/v1/due-policies')),
+  r('401 200 200 200 200 404 403 403 403 403 403 403 401 401', 'GET /v1/due-policies/:policyId', async (w) => ({ path: `/v1/due-policies/${await readPolicy(w)}` })),
+  r('401 200 403 200 403 404 403 403 403 403 403 403 401 401', 'PATCH /v1/due-policies/:policyId', async (w) => ({
+    path: `/v1/due-policies/${await seedPolicy(w)}`, ifMatch: '"v1"', body: { dueSoonDays: 21, reason: 'Three weeks of notice' } })),
+  r('401 200 200 200 200 200 403 403 403 403 403 403 401 401', 'GET /v1/interval-changes', at(() => '/v1/interval-changes')),
+  r('401 200 200 200 200 200 403 403 403 403 403 403 401 401', 'GET /v1/notices', at(() => '/v1/notices')),
+  r('401 200 403 200 404 404 403 403 403 403 403 403 401 401', 'POST /v1/notices/:noticeId/acknowledge', async (w) => ({ path: `/v1/notices/${await seedNotice(w)}/acknowledge` }), { note: 'addressed to lab A’s manager' }),
+  r('401 201 403 201 403 404 403 403 403 403 403 403 401 401', 'POST /v1/labs/:labId/calendar-feeds', post((w) => `/v1/labs/${w.labA}/calendar-feeds`, () => ({ name: 'DW-CHEM shared calendar' }))),
+  r('401 200 200 200 403 404 403 403 403 403 403 403 401 401', 'GET /v1/labs/:labId/calendar-feeds', at((w) => `/v1/labs/${w.labA}/calendar-feeds`)),
+  r('401 200 403 200 403 404 403 403 403 403 403 403 401 401', 'POST /v1/labs/:labId/calendar-feeds/:feedId/revoke', async (w) => ({ path: `/v1/labs/${w.labA}/calendar-feeds/${(await seedFeed(w)).id}/revoke` })),
+  r('200 200 200 200 200 200 200 200 200 200 200 200 200 200', 'GET /v1/calendar-feed.ics', async (w) => ({ path: '/v1/calendar-feed.ics', query: { token: (await seedFeed(w)).token } }), { note: 'a live token; no sign-in' }),
 
   r('401 200 200 200 403 404 403 403 403 403 403 403 401 401', 'POST /v1/exports', post(() => '/v1/exports', (w) => ({ report: 'inventory-register', format: 'csv', labIds: [w.labA], from: '2026-01-01T00:00:00Z', to: '2027-01-01T00:00:00Z' })), { note: 'lab A' }),
   r('401 200 200 200 403 200 403 403 403 403 403 403 401 401', 'GET /v1/exports', at(() => '/v1/exports')),
