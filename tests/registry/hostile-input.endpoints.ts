@@ -29,6 +29,7 @@ import {
   VoidCalibrationSchema,
 } from '../../apps/api/src/calibrations/calibration.schemas';
 import { createCredentialSchema, credentialListQuerySchema } from '../../apps/api/src/credentials/credentials.schemas';
+import { deliveryListQuerySchema } from '../../apps/api/src/deliveries/delivery.schemas';
 import { CorrectionRequestSchema, CurrentFactorQuerySchema, FactorListQuerySchema } from '../../apps/api/src/factors/factor.schemas';
 import { OutOfToleranceRequestSchema } from '../../apps/api/src/impact/out-of-tolerance.schemas';
 import {
@@ -49,6 +50,7 @@ import {
 import { ToleranceQuerySchema } from '../../apps/api/src/reference/reference.schemas';
 import { changePasswordSchema, signInSchema } from '../../apps/api/src/sessions/sessions.schemas';
 import { CreateVesselSchema, UpdateVesselSchema, VESSEL_SORTS, VesselListQuerySchema } from '../../apps/api/src/vessels/vessel.schemas';
+import { createWebhookSchema, webhookListQuerySchema } from '../../apps/api/src/webhooks/webhook.schemas';
 import type { Hostile } from './hostile-input.arbitraries';
 import type { HostileWorld } from './hostile-input.world';
 
@@ -120,6 +122,17 @@ export const BODY_ENDPOINTS: readonly BodyEndpoint[] = [
     schema: setMembershipSchema,
     seed: () => ({ role: 'analyst', externalRef: 'DW-ANA-99' }),
     path: (w) => `/v1/labs/${w.labA}/members/${w.targets.person.id}`,
+    as: (w) => w.tokens.manager,
+  },
+  {
+    route: 'POST /v1/labs/:labId/webhooks',
+    schema: createWebhookSchema,
+    seed: () => ({
+      url: 'https://lims.waterworks.example/hooks/registry',
+      description: 'Due dates into the LIMS',
+      eventKinds: ['due-soon'],
+    }),
+    path: (w) => `/v1/labs/${w.labA}/webhooks`,
     as: (w) => w.tokens.manager,
   },
   {
@@ -311,6 +324,8 @@ export const QUERY_ENDPOINTS: readonly QueryEndpoint[] = [
     path: (w) => `/v1/balances/${w.targets.checkedBalance.id}/checks`,
   },
   { route: 'GET /v1/reference/tolerances', schema: ToleranceQuerySchema, path: () => '/v1/reference/tolerances' },
+  { route: 'GET /v1/labs/:labId/webhooks', schema: webhookListQuerySchema, path: (w) => `/v1/labs/${w.labA}/webhooks` },
+  { route: 'GET /v1/labs/:labId/deliveries', schema: deliveryListQuerySchema, path: (w) => `/v1/labs/${w.labA}/deliveries` },
 ];
 
 /** Routes with path parameters, to be called with malformed or unknown ids. */
@@ -345,5 +360,12 @@ export const PARAM_ROUTES: readonly string[] = [
   'GET /v1/balances/:balanceId/checks/:checkId',
   'POST /v1/balances/:balanceId/weighing-corrections',
   'POST /v1/instruments/:instrumentId/out-of-tolerance',
+  'GET /v1/labs/:labId/webhooks',
+  'POST /v1/labs/:labId/webhooks',
+  'GET /v1/labs/:labId/webhooks/:webhookId',
+  'PATCH /v1/labs/:labId/webhooks/:webhookId',
+  'POST /v1/labs/:labId/webhooks/:webhookId/rotate-secret',
+  'GET /v1/labs/:labId/deliveries',
+  'POST /v1/labs/:labId/deliveries/:deliveryId/redeliver',
   'GET /problems/:code',
 ];

@@ -2,6 +2,7 @@ import fc from 'fast-check';
 import type { Response } from 'supertest';
 
 import { startTestApp } from '../support/test-app';
+import { TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
 import { bearer } from '../support/factories';
 import {
   Big,
@@ -52,7 +53,7 @@ describe('hostile input', () => {
   let w: HostileWorld;
 
   beforeAll(async () => {
-    w = await hostileWorld(await startTestApp());
+    w = await hostileWorld(await startTestApp({ WEBHOOK_SECRET_KEY: TEST_WEBHOOK_KEY }));
   }, 60_000);
   afterAll(() => w.t.close());
 

@@ -104,6 +104,7 @@ export async function snapshot(t: TestApp): Promise<Record<string, string>> {
     'instruments',
     'calibrations',
     'factors',
+    'webhooks',
   ];
   const members = [
     ...tables.map((table) => `'${table}', ${content(table)}`),
