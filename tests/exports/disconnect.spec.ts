@@ -51,7 +51,13 @@ describe('compliance exports: a client that disconnects', () => {
 
   /** Starts an export and hangs up after the first chunk; resolves with the export id. */
   function startAndHangUp(format: string): Promise<string> {
-    const payload = JSON.stringify({ report: 'calibration-log', format, labIds: [s.cast.lab.id], ...PERIOD, asOf: new Date().toISOString() });
+    const payload = JSON.stringify({
+      report: 'calibration-log',
+      format,
+      labIds: [s.cast.lab.id],
+      ...PERIOD,
+      asOf: new Date().toISOString(),
+    });
     return new Promise((resolve, reject) => {
       const req = http.request(
         {

@@ -160,7 +160,8 @@ describe('compliance exports: PDF, reproducibility and verification', () => {
       await expect(t.database.prisma.$executeRaw`UPDATE exports SET row_count = 0 WHERE id = ${id}::uuid`).rejects.toThrow(/frozen/);
       await expect(t.database.prisma.$executeRaw`DELETE FROM exports WHERE id = ${id}::uuid`).rejects.toThrow(/never deleted/);
       await expect(
-        t.database.prisma.$executeRaw`INSERT INTO exports (report, format, requested_by_id, all_labs, period_from, period_to, as_of, parameters, state, started_at, ended_at)
+        t.database.prisma
+          .$executeRaw`INSERT INTO exports (report, format, requested_by_id, all_labs, period_from, period_to, as_of, parameters, state, started_at, ended_at)
           VALUES ('calibration-log', 'csv', ${s.cast.people.admin.id}::uuid, true, now(), now() + interval '1 day', now(), '{}', 'completed', now(), now())`,
       ).rejects.toThrow(/exports_completed_has_digest/);
     });

@@ -167,7 +167,11 @@ describe('compliance exports: report content', () => {
       const rows = csvRecords(bytesOf(await ask('overdue-summary', 'csv').expect(200)));
       const exception = rows.filter((r) => r.finding === 'used-under-exception');
       expect(exception).toEqual([
-        expect.objectContaining({ record_id: s.exceptional.id, person: s.cast.people.analyst.email, occurred_at: '2026-05-05T10:00:00.000Z' }),
+        expect.objectContaining({
+          record_id: s.exceptional.id,
+          person: s.cast.people.analyst.email,
+          occurred_at: '2026-05-05T10:00:00.000Z',
+        }),
       ]);
       // BAL-03 was due 2026-03-01: the calibrations after that day used it while overdue (the voided one does not count).
       const overdueUse = rows.filter((r) => r.finding === 'used-while-overdue').map((r) => [r.asset_tag, r.record_id]);

@@ -134,7 +134,23 @@ export async function seedScenario(prisma: PrismaClient) {
     },
   });
   const quickCheck = await seedBalanceCheck(prisma, balance, people.analyst.id, at('2026-02-10T07:00:00.000Z'));
-  return { cast, pipette, flask, balance, thermometer, weight, before, first, second, exceptional, voided, older, newer, check, quickCheck };
+  return {
+    cast,
+    pipette,
+    flask,
+    balance,
+    thermometer,
+    weight,
+    before,
+    first,
+    second,
+    exceptional,
+    voided,
+    older,
+    newer,
+    check,
+    quickCheck,
+  };
 }
 
 /** POST /v1/exports, the body kept as bytes whatever its type. */
@@ -150,7 +166,12 @@ export function exportAs(t: TestApp, token: string, body: Record<string, unknown
       res.on('end', () => {
         const bytes = Buffer.concat(chunks);
         // Refusals are problem documents: parsed, so tests read `code` and `errors`.
-        done(null, /json/.test(String(res.headers['content-type'])) && !/ndjson/.test(String(res.headers['content-type'])) ? JSON.parse(bytes.toString('utf8')) : bytes);
+        done(
+          null,
+          /json/.test(String(res.headers['content-type'])) && !/ndjson/.test(String(res.headers['content-type']))
+            ? JSON.parse(bytes.toString('utf8'))
+            : bytes,
+        );
       });
     });
 }

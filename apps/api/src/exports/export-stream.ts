@@ -7,9 +7,9 @@ import Cursor from 'pg-cursor';
 import type { ReportRow, RowWriter } from './row-formats';
 
 /** Rows fetched from the cursor at a time: enough to amortise the round trip, small enough to stay flat in memory. */
-export const EXPORT_BATCH_ROWS = 2_000;
+export const EXPORT_BATCH_ROWS = 1_000;
 /** Bytes buffered in the stream before it waits for the client to read them. */
-const HIGH_WATER_MARK = 256 * 1024;
+const HIGH_WATER_MARK = 64 * 1024;
 
 export interface ExportQuery {
   /** Tags the statement in pg_stat_activity (`registry-export <id>`). */

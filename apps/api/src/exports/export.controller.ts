@@ -36,7 +36,10 @@ export class ExportController {
   @ApiOperation({ summary: 'Stream a compliance report (CSV, NDJSON or PDF), recorded with its SHA-256', description: CREATE_DOC })
   @ApiProduces('text/csv', 'application/x-ndjson', 'application/pdf')
   @ApiResponse({ status: 200, description: 'The report, streamed' })
-  @ApiResponse({ status: 400, description: 'validation-failed: unknown report or format, a period that ends before it starts, asOf in the future' })
+  @ApiResponse({
+    status: 400,
+    description: 'validation-failed: unknown report or format, a period that ends before it starts, asOf in the future',
+  })
   @ApiResponse({ status: 403, description: 'forbidden: not an administrator, auditor or lab manager; a lab you do not manage' })
   @ApiResponse({ status: 404, description: 'not-found: a lab that does not exist or that you cannot read' })
   async create(@Ctx() ctx: RequestContext, @Body() body: CreateExportDto, @Res() reply: FastifyReply): Promise<void> {
@@ -62,7 +65,10 @@ export class ExportController {
   }
 
   @Get()
-  @ApiOperation({ summary: 'Exports, newest first, cursor pages', description: `Lab managers see exports confined to labs they manage. ${WHO}` })
+  @ApiOperation({
+    summary: 'Exports, newest first, cursor pages',
+    description: `Lab managers see exports confined to labs they manage. ${WHO}`,
+  })
   list(@Ctx() ctx: RequestContext, @Query() query: ExportListQueryDto) {
     return this.exports.list(ctx, query);
   }

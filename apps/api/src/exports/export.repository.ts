@@ -122,7 +122,10 @@ export class ExportRepository {
          AND (${after?.startedAt ?? null}::timestamptz IS NULL OR (started_at, id) < (${after?.startedAt ?? null}, ${after?.id ?? null}::uuid))
        ORDER BY started_at DESC, id DESC
        LIMIT ${limit}`;
-    const rows = await db.export.findMany({ where: { id: { in: ids.map((r) => r.id) } }, orderBy: [{ startedAt: 'desc' }, { id: 'desc' }] });
+    const rows = await db.export.findMany({
+      where: { id: { in: ids.map((r) => r.id) } },
+      orderBy: [{ startedAt: 'desc' }, { id: 'desc' }],
+    });
     return rows.map(toRecord);
   }
 

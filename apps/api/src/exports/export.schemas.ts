@@ -60,8 +60,7 @@ export const CreateExportSchema = z
       .refine((ids) => new Set(ids.map((id) => id.toLowerCase())).size === ids.length, { error: 'must not name a lab twice' })
       .optional()
       .meta({
-        description:
-          'The labs to report on. Left out: every lab for administrators and auditors, the labs you manage for lab managers.',
+        description: 'The labs to report on. Left out: every lab for administrators and auditors, the labs you manage for lab managers.',
       }),
     from: instant('Start of the period (inclusive)', '2026-01-01T00:00:00Z'),
     to: instant('End of the period (exclusive)', '2027-01-01T00:00:00Z'),

@@ -146,7 +146,12 @@ export class ExportService {
         const outcome = stream.outcome();
         const state = delivered && outcome.sha256 !== null ? 'completed' : 'aborted';
         await this.prisma.$transaction(async (tx) => {
-          const ended = await this.exports.end(tx, record.id, { state, ...outcome, sha256: state === 'completed' ? outcome.sha256 : null }, this.clock.now());
+          const ended = await this.exports.end(
+            tx,
+            record.id,
+            { state, ...outcome, sha256: state === 'completed' ? outcome.sha256 : null },
+            this.clock.now(),
+          );
           await this.audit.record(tx, ctx, {
             action: state === 'completed' ? 'export-completed' : 'export-aborted',
             entityType: 'export',
@@ -211,10 +216,18 @@ export class ExportService {
     return records.map((r) => toExportView(r, byId.get(r.requestedById) ?? { id: r.requestedById, email: '', displayName: '' }));
   }
 
-  private async labsFor(actor: Actor, scope: ExportScope, asked: readonly string[] | undefined): Promise<{ allLabs: boolean; labs: LabRef[] }> {
+  private async labsFor(
+    actor: Actor,
+    scope: ExportScope,
+    asked: readonly string[] | undefined,
+  ): Promise<{ allLabs: boolean; labs: LabRef[] }> {
     const select = { id: true, code: true, name: true } as const;
     if (asked === undefined) {
-      const labs = await this.prisma.lab.findMany({ where: scope === 'all' ? {} : { id: { in: [...scope] } }, select, orderBy: { code: 'asc' } });
+      const labs = await this.prisma.lab.findMany({
+        where: scope === 'all' ? {} : { id: { in: [...scope] } },
+        select,
+        orderBy: { code: 'asc' },
+      });
       return { allLabs: scope === 'all', labs };
     }
     const ids = asked.map((id) => id.toLowerCase());
@@ -224,7 +237,9 @@ export class ExportService {
         throw new DomainError('not-found', `No lab with id ${id}.`, [{ field: 'labIds', reason: `no lab ${id}` }]);
       }
       if (scope !== 'all' && !scope.includes(id)) {
-        throw new DomainError('forbidden', 'Lab managers export the labs they manage only.', [{ field: 'labIds', reason: `you do not manage lab ${id}` }]);
+        throw new DomainError('forbidden', 'Lab managers export the labs they manage only.', [
+          { field: 'labIds', reason: `you do not manage lab ${id}` },
+        ]);
       }
     }
     return { allLabs: false, labs: found };
@@ -274,7 +289,10 @@ function inScope(scope: ExportScope, record: ExportRecord): boolean {
 
 function fileName(report: string, format: ExportFormat, labs: readonly LabRef[] | null, asOf: Date): string {
   const where = labs === null ? 'all-labs' : labs.length <= 3 ? labs.map((l) => l.code).join('+') : `${labs.length}-labs`;
-  const at = asOf.toISOString().replace(/[-:]/g, '').replace(/\.\d{3}Z$/, 'Z');
+  const at = asOf
+    .toISOString()
+    .replace(/[-:]/g, '')
+    .replace(/\.\d{3}Z$/, 'Z');
   return `${report}_${where}_${at}.${format}`;
 }
 

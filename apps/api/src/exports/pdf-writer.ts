@@ -94,7 +94,10 @@ export class PdfReportWriter implements RowWriter {
   rows(batch: readonly ReportRow[]): Buffer {
     for (const row of batch) {
       if (this.y + ROW_HEIGHT > this.bottom()) this.tablePage();
-      this.drawRow(this.columns.map((c) => cellText(row[c.index] ?? null)), false);
+      this.drawRow(
+        this.columns.map((c) => cellText(row[c.index] ?? null)),
+        false,
+      );
     }
     return this.drain();
   }
@@ -261,7 +264,10 @@ export class PdfReportWriter implements RowWriter {
 
   private drawRow(cells: readonly string[], header: boolean): void {
     if (header) this.doc.rect(MARGIN, this.y - 2, this.pageWidth() - 2 * MARGIN, ROW_HEIGHT).fill('#e0e0e0');
-    this.doc.font(header ? 'Helvetica-Bold' : 'Helvetica').fontSize(FONT_SIZE).fillColor('#000000');
+    this.doc
+      .font(header ? 'Helvetica-Bold' : 'Helvetica')
+      .fontSize(FONT_SIZE)
+      .fillColor('#000000');
     let x = MARGIN;
     this.columns.forEach((c, i) => {
       this.doc.text(this.fit(pdfText(cells[i] ?? ''), c.width - 3), x + 1, this.y, { lineBreak: false });
