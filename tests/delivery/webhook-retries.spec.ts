@@ -195,6 +195,26 @@ describe('webhook delivery with retries', () => {
     }
   });
 
+  it('fails a pending delivery at its next attempt when its webhook was disabled meanwhile', async () => {
+    clock.set(START);
+    const receiver = await startReceiver([200]);
+    try {
+      const hook = await register(receiver.url);
+      const notice = await raiseNotice(t, { labId: cast.lab.id, recipientIds: [cast.people.manager.id] });
+      const off = await t.http
+        .patch(`/v1/labs/${cast.lab.id}/webhooks/${hook.id}`)
+        .set(bearer(cast.tokens.manager))
+        .set('if-match', '"v1"')
+        .send({ enabled: false });
+      expect(off.status).toBe(200);
+      await runWorker(t);
+      expect(receiver.received).toHaveLength(0);
+      expect(await logOf(notice.id)).toMatchObject({ state: 'failed', attempts: 1, lastError: 'the webhook is disabled' });
+    } finally {
+      await receiver.close();
+    }
+  });
+
   it('counts an endpoint that does not answer within the timeout as a failed attempt', async () => {
     clock.set(START);
     const receiver = await startReceiver([200], { hangMs: 4_000 });

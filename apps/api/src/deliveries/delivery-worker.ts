@@ -90,7 +90,7 @@ export class DeliveryWorker implements OnApplicationBootstrap, OnApplicationShut
     const now = this.clock.now();
     const outcome: AttemptOutcome = result.ok
       ? { kind: 'delivered', statusCode: result.statusCode }
-      : d.attempts >= d.attemptLimit
+      : d.attempts >= d.attemptLimit || result.final
         ? { kind: 'failed', statusCode: result.statusCode, error: result.error ?? 'failed' }
         : {
             kind: 'retry',

@@ -6,6 +6,8 @@ export interface SendResult {
   readonly ok: boolean;
   readonly statusCode: number | null;
   readonly error: string | null;
+  /** Retrying cannot help (the webhook was disabled or removed): fail at once. */
+  readonly final?: boolean;
 }
 
 /** The JSON a webhook receives: the delivery's id (the same on every attempt) and the notice. */
@@ -36,9 +38,9 @@ export function webhookPayload(d: ClaimedDelivery, sentAt: Date): string {
  */
 export async function sendWebhook(d: ClaimedDelivery, box: SecretBox | null, now: Date, timeoutMs: number): Promise<SendResult> {
   if (d.webhookUrl === null || d.secretSealed === null || d.secretKeyRef === null || d.webhookId === null) {
-    return { ok: false, statusCode: null, error: 'the webhook no longer exists' };
+    return { ok: false, statusCode: null, error: 'the webhook no longer exists', final: true };
   }
-  if (!d.webhookEnabled) return { ok: false, statusCode: null, error: 'the webhook is disabled' };
+  if (!d.webhookEnabled) return { ok: false, statusCode: null, error: 'the webhook is disabled', final: true };
   if (box === null) return { ok: false, statusCode: null, error: 'WEBHOOK_SECRET_KEY is not set: deliveries cannot be signed' };
   let secret: string;
   try {
