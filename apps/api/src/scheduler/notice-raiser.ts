@@ -51,11 +51,9 @@ export class NoticeRaiser {
         WHERE n.subject_kind <> 'factor' AND m.lab_id = n.lab_id AND m.lab_role = 'manager' AND p.status = 'active') r
       WHERE n.id = ANY(${ids}::uuid[])
       RETURNING notice_id AS "noticeId", person_id AS "personId"`;
-    const raised: RaisedNotice[] = rows.map((r) => ({
-      ...r,
-      dueOn: isoDay(r.dueOn),
-      recipientIds: recipients.filter((x) => x.noticeId === r.id).map((x) => x.personId),
-    }));
+    const recipientsOf = new Map<string, string[]>();
+    for (const x of recipients) recipientsOf.set(x.noticeId, [...(recipientsOf.get(x.noticeId) ?? []), x.personId]);
+    const raised: RaisedNotice[] = rows.map((r) => ({ ...r, dueOn: isoDay(r.dueOn), recipientIds: recipientsOf.get(r.id) ?? [] }));
     await this.audit.record(tx, ctx, {
       action: 'raise-notices',
       entityType: 'lab',

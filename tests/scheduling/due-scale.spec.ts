@@ -1,0 +1,123 @@
+import { Prisma } from '@registry/data';
+import { Client } from 'pg';
+
+import { duePageSql } from '../../apps/api/src/due/due.repository';
+import { seedLab } from '../support/factories';
+import { schedulingWorld, type SchedulingWorld } from './support';
+
+const VESSELS = 90_000;
+const BALANCES = 5_000;
+const WEIGHTS = 5_000;
+
+type PlanNode = { 'Node Type': string; 'Index Name'?: string; Plans?: PlanNode[] };
+const nodes = (n: PlanNode): PlanNode[] => [n, ...(n.Plans ?? []).flatMap(nodes)];
+const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)] as number;
+
+// GET /v1/due at registry scale: 105,000 due dates in three labs, read through indexes.
+describe('due dates at 100,000 items', () => {
+  let w: SchedulingWorld;
+  let owner: Client;
+  let labs: string[];
+
+  beforeAll(async () => {
+    w = await schedulingWorld();
+    owner = new Client({ connectionString: w.t.testDatabase.url });
+    await owner.connect();
+    const second = await seedLab(w.prisma, { timeZone: 'America/Chicago' });
+    labs = [w.cast.lab.id, w.cast.otherLab.id, second.id];
+    // Bulk rows without the per-row triggers (as a restore would), then the set-based refresh per lab.
+    await owner.query(`SET session_replication_role = replica`);
+    await owner.query(
+      `INSERT INTO vessels (lab_id, asset_tag, kind, delivery_mode, nominal_volume_ml, accuracy_class, expansion_coefficient_per_k, limit_ml, limit_source, created_at)
+       SELECT ($1::uuid[])[1 + g % 3], 'PIP-S-' || g, 'one-mark-pipette', 'deliver', 25, 'A', 0.0000099, 0.03, 'class-table',
+              timestamptz '2025-01-01 08:00+00' + (g % 700) * interval '1 day'
+       FROM generate_series(1, ${VESSELS}) g`,
+      [labs],
+    );
+    await owner.query(
+      `INSERT INTO balances (lab_id, asset_tag, capacity_g, readability_g, external_calibration_date, external_calibration_due)
+       SELECT ($1::uuid[])[1 + g % 3], 'BAL-S-' || g, 220, 0.0001, date '2026-01-01' + (g % 300), date '2026-11-01' + (g % 400)
+       FROM generate_series(1, ${BALANCES}) g`,
+      [labs],
+    );
+    await owner.query(
+      `INSERT INTO reference_weights (lab_id, asset_tag, nominal_mass_g, oiml_class, certificate_due)
+       SELECT ($1::uuid[])[1 + g % 3], 'CW-S-' || g, 100, 'F1', date '2026-10-01' + (g % 500)
+       FROM generate_series(1, ${WEIGHTS}) g`,
+      [labs],
+    );
+    await owner.query(`SET session_replication_role = origin`);
+  }, 300_000);
+  afterAll(async () => {
+    await owner.end();
+    await w.t.close();
+  });
+
+  it('fills due_dates for every subject with the set-based refresh', async () => {
+    const started = Date.now();
+    for (const lab of labs) await owner.query(`SELECT due_refresh_lab($1::uuid, NULL)`, [lab]);
+    const ms = Date.now() - started;
+    await owner.query('ANALYZE');
+    const { rows } = await owner.query<{ n: string }>('SELECT count(*) AS n FROM due_items');
+    expect(Number(rows[0]?.n)).toBe(VESSELS + 2 * BALANCES + WEIGHTS);
+    console.log(`refreshed ${rows[0]?.n} due dates in ${ms} ms`);
+  }, 300_000);
+
+  it('plans the filtered list as index scans of due_dates, and answers within a second', async () => {
+    const scope = { labs: 'all' as const, factors: 'all' as const };
+    const now = new Date('2026-12-01T07:00:00Z');
+    const filters = [
+      { labId: labs[0] as string, state: 'overdue' as const },
+      { labId: labs[1] as string, withinDays: 30 },
+      { labId: labs[2] as string, subjectKind: 'reference-weight' as const, state: 'due-soon' as const },
+    ];
+    for (const filter of filters) {
+      const plan = await w.prisma.$queryRaw<{ 'QUERY PLAN': [{ Plan: PlanNode }] }[]>(
+        Prisma.sql`EXPLAIN (FORMAT JSON) ${duePageSql(scope, filter, now, 51, null)}`,
+      );
+      const all = nodes(plan[0]?.['QUERY PLAN'][0].Plan as PlanNode);
+      const scans = all.filter((n) => n['Index Name']?.startsWith('due_dates_'));
+      expect({ filter, indexes: scans.length > 0 }).toEqual({ filter, indexes: true });
+      expect(all.some((n) => n['Node Type'] === 'Seq Scan' && (n as { 'Relation Name'?: string })['Relation Name'] === 'due_dates')).toBe(
+        false,
+      );
+    }
+
+    const timings: Record<string, number> = {};
+    const token = await w.as('admin');
+    for (const [name, query] of [
+      ['lab, overdue', { labId: labs[0] as string, state: 'overdue' }],
+      ['lab, within 30 days', { labId: labs[1] as string, withinDays: '30' }],
+      ['all labs, due soon', { state: 'due-soon' }],
+      ['all labs, first page', {}],
+    ] as const) {
+      const samples: number[] = [];
+      for (let i = 0; i < 5; i++) {
+        const started = performance.now();
+        const res = await w.t.http
+          .get('/v1/due')
+          .set('authorization', `Bearer ${token}`)
+          .query({ ...query, limit: '50' });
+        samples.push(performance.now() - started);
+        expect(res.status).toBe(200);
+        expect(res.body.items).toHaveLength(50);
+      }
+      timings[name] = Math.round(median(samples));
+    }
+    console.log(`GET /v1/due median ms (50 items, 105,000 due dates): ${JSON.stringify(timings)}`);
+    for (const ms of Object.values(timings)) expect(ms).toBeLessThan(1000);
+  }, 120_000);
+
+  it('raises the notices of a lab at this scale in one pass, and nothing on the next', async () => {
+    const started = Date.now();
+    const passes = await w.scheduler.runPass();
+    const first = Date.now() - started;
+    const raised = passes.reduce((n, p) => n + p.raised, 0);
+    const again = Date.now();
+    const second = (await w.scheduler.runPass()).reduce((n, p) => n + p.raised, 0);
+    const secondMs = Date.now() - again;
+    console.log(`scheduler: ${raised} notices in ${first} ms; next pass ${second} in ${secondMs} ms`);
+    expect(raised).toBe(await w.prisma.notice.count());
+    expect(second).toBe(0);
+  }, 300_000);
+});
