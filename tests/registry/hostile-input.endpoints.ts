@@ -9,6 +9,7 @@ import {
   CreateBalanceSchema,
   UpdateBalanceSchema,
 } from '../../apps/api/src/balances/balance.schemas';
+import { createFeedSchema, feedListQuerySchema } from '../../apps/api/src/calendar-feeds/calendar-feed.schemas';
 import { BalanceCheckRequestSchema } from '../../apps/api/src/calculations/balance.schemas';
 import { EXAMPLES } from '../../apps/api/src/calculations/calculations.examples';
 import {
@@ -30,7 +31,9 @@ import {
 } from '../../apps/api/src/calibrations/calibration.schemas';
 import { createCredentialSchema, credentialListQuerySchema } from '../../apps/api/src/credentials/credentials.schemas';
 import { deliveryListQuerySchema } from '../../apps/api/src/deliveries/delivery.schemas';
+import { CreateExportSchema, ExportListQuerySchema, VerifyDigestSchema } from '../../apps/api/src/exports/export.schemas';
 import { CorrectionRequestSchema, CurrentFactorQuerySchema, FactorListQuerySchema } from '../../apps/api/src/factors/factor.schemas';
+import { dueListQuerySchema } from '../../apps/api/src/due/due.schemas';
 import { OutOfToleranceRequestSchema } from '../../apps/api/src/impact/out-of-tolerance.schemas';
 import {
   CreateInstrumentSchema,
@@ -40,7 +43,9 @@ import {
 } from '../../apps/api/src/instruments/instrument.schemas';
 import { createLabSchema, labListQuerySchema, updateLabSchema } from '../../apps/api/src/labs/labs.schemas';
 import { setMembershipSchema } from '../../apps/api/src/labs/memberships.schemas';
+import { noticeListQuerySchema } from '../../apps/api/src/notices/notice.schemas';
 import { createPersonSchema, personListQuerySchema, updatePersonSchema } from '../../apps/api/src/people/people.schemas';
+import { changeListQuerySchema, createPolicySchema, policyListQuerySchema } from '../../apps/api/src/policies/due-policy.schemas';
 import {
   CreateReferenceWeightSchema,
   REFERENCE_WEIGHT_SORTS,
@@ -71,6 +76,20 @@ const version = async (read: Promise<{ version: number }>) => `"v${(await read).
 const PASSWORD_FAILURES = ['sign_in_failures', 'audit_entries'];
 
 export const BODY_ENDPOINTS: readonly BodyEndpoint[] = [
+  {
+    route: 'POST /v1/due-policies',
+    schema: createPolicySchema,
+    seed: (w) => ({ labId: w.labA, subjectKind: 'instrument', intervalDays: 365, dueSoonDays: 30, reason: 'Thermometers once a year' }),
+    path: () => '/v1/due-policies',
+    as: (w) => w.tokens.manager,
+  },
+  {
+    route: 'POST /v1/labs/:labId/calendar-feeds',
+    schema: createFeedSchema,
+    seed: () => ({ name: 'DW-CHEM shared calendar' }),
+    path: (w) => `/v1/labs/${w.labA}/calendar-feeds`,
+    as: (w) => w.tokens.manager,
+  },
   {
     route: 'POST /v1/sessions',
     schema: signInSchema,
@@ -258,6 +277,27 @@ export const BODY_ENDPOINTS: readonly BodyEndpoint[] = [
     path: () => `/v1/calculations/${name}`,
     as: (w) => w.tokens.analyst,
   })),
+  {
+    route: 'POST /v1/exports',
+    schema: CreateExportSchema,
+    seed: (w) => ({
+      report: 'calibration-log',
+      format: 'csv',
+      labIds: [w.labA],
+      from: '2026-01-01T00:00:00Z',
+      to: '2027-01-01T00:00:00Z',
+      asOf: '2026-06-30T12:00:00Z',
+    }),
+    path: () => '/v1/exports',
+    as: (w) => w.tokens.admin,
+  },
+  {
+    route: 'POST /v1/exports/verification',
+    schema: VerifyDigestSchema,
+    seed: () => ({ sha256: '9f86d081884c7d659a2feaa0c55ad015a3bf4f1b2b0b822cd15d6c15b0f00a08' }),
+    path: () => '/v1/exports/verification',
+    as: (w) => w.tokens.admin,
+  },
 ];
 
 function inventory(
@@ -297,6 +337,11 @@ export interface QueryEndpoint {
 }
 
 export const QUERY_ENDPOINTS: readonly QueryEndpoint[] = [
+  { route: 'GET /v1/due', schema: dueListQuerySchema, path: () => '/v1/due' },
+  { route: 'GET /v1/notices', schema: noticeListQuerySchema, path: () => '/v1/notices' },
+  { route: 'GET /v1/due-policies', schema: policyListQuerySchema, path: () => '/v1/due-policies' },
+  { route: 'GET /v1/interval-changes', schema: changeListQuerySchema, path: () => '/v1/interval-changes' },
+  { route: 'GET /v1/labs/:labId/calendar-feeds', schema: feedListQuerySchema, path: (w) => `/v1/labs/${w.labA}/calendar-feeds` },
   { route: 'GET /v1/vessels', schema: VesselListQuerySchema, path: () => '/v1/vessels', sorts: VESSEL_SORTS },
   { route: 'GET /v1/balances', schema: BalanceListQuerySchema, path: () => '/v1/balances', sorts: BALANCE_SORTS },
   {
@@ -326,10 +371,17 @@ export const QUERY_ENDPOINTS: readonly QueryEndpoint[] = [
   { route: 'GET /v1/reference/tolerances', schema: ToleranceQuerySchema, path: () => '/v1/reference/tolerances' },
   { route: 'GET /v1/labs/:labId/webhooks', schema: webhookListQuerySchema, path: (w) => `/v1/labs/${w.labA}/webhooks` },
   { route: 'GET /v1/labs/:labId/deliveries', schema: deliveryListQuerySchema, path: (w) => `/v1/labs/${w.labA}/deliveries` },
+  { route: 'GET /v1/exports', schema: ExportListQuerySchema, path: () => '/v1/exports' },
 ];
 
 /** Routes with path parameters, to be called with malformed or unknown ids. */
 export const PARAM_ROUTES: readonly string[] = [
+  'GET /v1/due-policies/:policyId',
+  'PATCH /v1/due-policies/:policyId',
+  'POST /v1/notices/:noticeId/acknowledge',
+  'GET /v1/labs/:labId/calendar-feeds',
+  'POST /v1/labs/:labId/calendar-feeds',
+  'POST /v1/labs/:labId/calendar-feeds/:feedId/revoke',
   'GET /v1/people/:personId',
   'PATCH /v1/people/:personId',
   'GET /v1/labs/:labId',
@@ -367,5 +419,6 @@ export const PARAM_ROUTES: readonly string[] = [
   'POST /v1/labs/:labId/webhooks/:webhookId/rotate-secret',
   'GET /v1/labs/:labId/deliveries',
   'POST /v1/labs/:labId/deliveries/:deliveryId/redeliver',
+  'GET /v1/exports/:exportId',
   'GET /problems/:code',
 ];

@@ -18,6 +18,11 @@ export interface ExportQuery {
   readonly params: readonly unknown[];
   /** Builds the writer on the export's connection, inside its snapshot (the PDF reads its summary counts there). */
   readonly writer: (client: PoolClient) => Promise<RowWriter>;
+  /**
+   * Called once every byte has been handed over and before the stream ends, so that when the
+   * client sees the end of the response the export is already recorded as completed.
+   */
+  readonly completed?: (outcome: ExportOutcome) => Promise<void>;
 }
 
 export interface ExportOutcome {
@@ -96,6 +101,7 @@ export class ExportStream {
     this.client = client;
     let cursor: Cursor<ReportRow> | null = null;
     let finished = false;
+    let released = false;
     let broken: Error | undefined;
     try {
       await client.query('BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY');
@@ -118,6 +124,10 @@ export class ExportStream {
       await client.query('COMMIT');
       finished = true;
       this.digest = this.hash.digest();
+      this.client = null;
+      client.release();
+      released = true;
+      await this.query.completed?.(this.outcome());
     } finally {
       this.fetching = false;
       if (!finished) {
@@ -127,8 +137,10 @@ export class ExportStream {
           broken = err;
         });
       }
-      this.client = null;
-      client.release(broken);
+      if (!released) {
+        this.client = null;
+        client.release(broken);
+      }
     }
   }
 

@@ -133,13 +133,15 @@ export class ExportService {
     }, TX);
 
     const requester = { displayName: actor.displayName, email: actor.email };
-    const stream = new ExportStream(this.pool, {
+    let settled: Promise<void> | null = null;
+    const stream: ExportStream = new ExportStream(this.pool, {
       exportId: record.id,
       sql: report.sql,
       params: [allLabs, labIds, from, to, asOf],
       writer: (client) => this.writerFor(client, body.format, report, { labs, allLabs, from, to, asOf, requester, chain, labIds }),
+      completed: () => settle(true),
     });
-    let settled: Promise<void> | null = null;
+    /** Records how the export ended, once: completed (every byte handed over) or aborted. */
     const settle = (delivered: boolean): Promise<void> => {
       settled ??= (async () => {
         if (!delivered) await stream.cancel();
