@@ -8,6 +8,8 @@ import type { ReportRow, RowWriter } from './row-formats';
 
 /** Rows fetched from the cursor at a time: enough to amortise the round trip, small enough to stay flat in memory. */
 export const EXPORT_BATCH_ROWS = 1_000;
+/** The longest an export's query may run: a million rows take about a minute; a client that stalls longer loses the export. */
+export const EXPORT_STATEMENT_TIMEOUT_MS = 30 * 60_000;
 /** Bytes buffered in the stream before it waits for the client to read them. */
 const HIGH_WATER_MARK = 64 * 1024;
 
@@ -105,6 +107,9 @@ export class ExportStream {
     let broken: Error | undefined;
     try {
       await client.query('BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY');
+      // The pool's 30 s statement timeout covers one request's query; an export's cursor is one statement for as long as
+      // the client reads.
+      await client.query(`SET LOCAL statement_timeout = ${EXPORT_STATEMENT_TIMEOUT_MS}`);
       this.backendPid = (await client.query<{ pid: number }>('SELECT pg_backend_pid() AS pid')).rows[0]?.pid ?? null;
       const writer = await this.query.writer(client);
       cursor = client.query(
