@@ -44,6 +44,25 @@ module.exports = tseslint.config(
     },
   },
   {
+    files: ['apps/**/*.ts'],
+    ignores: ['apps/api/src/common/http/zod-response.ts'],
+    rules: {
+      'no-restricted-imports': [
+        'error',
+        {
+          paths: [
+            {
+              name: 'nestjs-zod',
+              importNames: ['ZodResponse', 'ZodSerializerDto'],
+              message:
+                'Import ZodResponse from apps/api/src/common/http/zod-response: it binds the response serializer to the route (there is no global one).',
+            },
+          ],
+        },
+      ],
+    },
+  },
+  {
     files: ['libs/**/*.ts'],
     rules: {
       'no-restricted-imports': ['error', { patterns: [{ regex: '(^|/)apps/', message: 'Libraries never import applications.' }] }],

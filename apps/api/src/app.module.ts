@@ -1,7 +1,6 @@
 import { type DynamicModule, Global, Module } from '@nestjs/common';
-import { APP_FILTER, APP_GUARD, APP_INTERCEPTOR, APP_PIPE } from '@nestjs/core';
+import { APP_FILTER, APP_GUARD, APP_PIPE } from '@nestjs/core';
 import { type Database, PrismaClient } from '@registry/data';
-import { ZodSerializerInterceptor } from 'nestjs-zod';
 import { Pool } from 'pg';
 
 import { AuditWriter } from './audit/audit-writer';
@@ -90,7 +89,6 @@ export class AppModule {
         ...infrastructure,
         { provide: APP_GUARD, useClass: AuthGuard },
         { provide: APP_PIPE, useClass: RegistryValidationPipe },
-        { provide: APP_INTERCEPTOR, useClass: ZodSerializerInterceptor },
         { provide: APP_FILTER, useClass: ProblemFilter },
       ],
       exports: infrastructure.map((p) => p.provide),

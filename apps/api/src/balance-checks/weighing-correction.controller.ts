@@ -1,6 +1,6 @@
 import { Body, Controller, HttpCode, Param, Post } from '@nestjs/common';
 import { ApiBody, type ApiBodyOptions, ApiOperation, ApiResponse, ApiTags } from '@nestjs/swagger';
-import { ZodResponse } from 'nestjs-zod';
+import { ZodResponse } from '../common/http/zod-response';
 
 import type { RequestContext } from '../auth/actor';
 import { CredentialScopes, Ctx } from '../auth/auth.decorators';

@@ -1,6 +1,6 @@
 import { Body, Controller, Post } from '@nestjs/common';
 import { ApiOperation, ApiTags } from '@nestjs/swagger';
-import { ZodResponse } from 'nestjs-zod';
+import { ZodResponse } from '../common/http/zod-response';
 
 import { CredentialScopes } from '../auth/auth.decorators';
 import { BalanceCheckRequestDto, BalanceCheckResponseDto } from './balance.schemas';

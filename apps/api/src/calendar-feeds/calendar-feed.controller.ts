@@ -1,7 +1,7 @@
 import { Body, Controller, Get, HttpCode, Param, Post, Query, Res } from '@nestjs/common';
 import { ApiOperation, ApiProduces, ApiResponse, ApiTags } from '@nestjs/swagger';
 import type { FastifyReply } from 'fastify';
-import { ZodResponse } from 'nestjs-zod';
+import { ZodResponse } from '../common/http/zod-response';
 
 import type { RequestContext } from '../auth/actor';
 import { Ctx, PeopleOnly, Public } from '../auth/auth.decorators';

@@ -1,6 +1,6 @@
 import { Body, Controller, Get, Headers, HttpCode, Param, Patch, Post, Query } from '@nestjs/common';
 import { ApiBody, ApiOperation, ApiResponse, ApiTags } from '@nestjs/swagger';
-import { ZodResponse } from 'nestjs-zod';
+import { ZodResponse } from '../common/http/zod-response';
 
 import type { RequestContext } from '../auth/actor';
 import { Ctx, PeopleOnly } from '../auth/auth.decorators';

@@ -1,6 +1,6 @@
 import { Controller, Get, Query } from '@nestjs/common';
 import { ApiOperation, ApiResponse, ApiTags } from '@nestjs/swagger';
-import { ZodResponse } from 'nestjs-zod';
+import { ZodResponse } from '../common/http/zod-response';
 
 import type { RequestContext } from '../auth/actor';
 import { CredentialScopes, Ctx } from '../auth/auth.decorators';

@@ -1,7 +1,7 @@
 import { Body, Controller, Get, Headers, HttpCode, Param, Post, Query, Res } from '@nestjs/common';
 import { ApiHeader, ApiOperation, ApiResponse, ApiTags } from '@nestjs/swagger';
 import type { FastifyReply } from 'fastify';
-import { ZodResponse } from 'nestjs-zod';
+import { ZodResponse } from '../common/http/zod-response';
 
 import type { RequestContext } from '../auth/actor';
 import { CredentialScopes, Ctx } from '../auth/auth.decorators';
@@ -25,7 +25,8 @@ const WHO =
   'administrators and auditors for all. Anyone else’s factor, or a vessel of a lab you cannot read, answers 404.';
 const PROBLEMS =
   'Problems, each with its own `code`: not-found (404), no-factor (404), factor-expired (409, with `validUntil`), ' +
-  'vessel-not-in-service (409, with `vesselStatus`; no fallback), person-not-member (422; no fallback). ' +
+  'vessel-not-in-service (409, with `vesselStatus`; no fallback), person-not-active (409, a disabled person; no fallback), ' +
+  'person-not-member (422; no fallback). ' +
   'With the nominal fallback asked for, no-factor and factor-expired become an answer marked `source: "nominal-fallback"`.';
 const IF_NONE_MATCH = ApiHeader({ name: 'If-None-Match', required: false, description: 'An ETag you hold: 304 when it is still current' });
 

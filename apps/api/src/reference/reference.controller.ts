@@ -1,6 +1,6 @@
 import { Controller, Get, Query } from '@nestjs/common';
 import { ApiOperation, ApiTags } from '@nestjs/swagger';
-import { ZodResponse } from 'nestjs-zod';
+import { ZodResponse } from '../common/http/zod-response';
 
 import { CredentialScopes } from '../auth/auth.decorators';
 import { MaterialListDto, ToleranceListDto, ToleranceQueryDto } from './reference.schemas';
