@@ -1,4 +1,4 @@
-import { bearer, seedFactor, seedVessel } from '../support/factories';
+import { bearer, seedFactor, seedPerson, seedVessel } from '../support/factories';
 import { startTestApp, type TestApp } from '../support/test-app';
 import { daysAgo, daysAhead, factorScenario, type FactorScenario } from './scenario';
 
@@ -204,6 +204,24 @@ describe('current factor lookup', () => {
         expect(res.status).toBe(409);
         expect(res.body).toMatchObject({ code: 'vessel-not-in-service', vesselStatus: 'quarantined' });
       }
+    });
+
+    it('person-not-active: a disabled person’s factors are not used now, fallback or not, but answer for the past', async () => {
+      const prisma = t.database.prisma;
+      const leaver = await seedPerson(prisma, { labs: [{ labId: s.labId, role: 'analyst' }] });
+      const vessel = await seedVessel(prisma, s.labId);
+      await seedFactor(prisma, { labId: s.labId, personId: leaver.id, vesselId: vessel.id, validFrom: daysAgo(30) });
+      expect((await current({ personId: leaver.id, vesselId: vessel.id })).status).toBe(200);
+      const whileActive = new Date();
+      await prisma.person.update({ where: { id: leaver.id }, data: { status: 'disabled' } });
+      for (const query of [{}, { fallback: 'nominal' }]) {
+        const res = await current({ email: leaver.email, vesselId: vessel.id, ...query });
+        expect(res.status).toBe(409);
+        expect(res.body).toMatchObject({ code: 'person-not-active', personId: leaver.id, vesselId: vessel.id });
+      }
+      const past = await current({ personId: leaver.id, vesselId: vessel.id, at: whileActive.toISOString() });
+      expect(past.status).toBe(200);
+      expect(past.body.personId).toBe(leaver.id);
     });
 
     it('person-not-member: a person of another lab, or an email nobody has, fallback or not', async () => {

@@ -39,6 +39,8 @@ export interface Lookup {
   };
   /** The person the identifier names, when it names anyone (for externalRef: a member of the vessel's lab). */
   readonly personId: string | null;
+  /** False when the person named is disabled. */
+  readonly personActive: boolean;
   readonly isMember: boolean;
   readonly factor: LookedUpFactor | null;
 }
@@ -69,7 +71,7 @@ const FACTOR_WHERE = {
 function statement(person: PersonKey['by'], vessel: VesselKey['by'], when: keyof typeof FACTOR_WHERE): string {
   return `SELECT v.id AS vessel_id, v.lab_id, v.kind AS vessel_kind, v.status AS vessel_status,
                  v.nominal_volume_ml, v.expansion_coefficient_per_k, v.limit_ml,
-                 p.id AS person_id, (m.person_id IS NOT NULL) AS is_member,
+                 p.id AS person_id, (p.status = 'active') AS person_active, (m.person_id IS NOT NULL) AS is_member,
                  f.id AS factor_id, f.lab_id AS factor_lab_id, f.calibration_id, f.kind, f.factor, f.correction_ml, f.curve,
                  f.expanded_uncertainty_ml, f.coverage_factor, f.reference_temperature_c,
                  f.valid_from, f.valid_until, f.state, f.review_required_at, f.review_reason
@@ -104,6 +106,7 @@ interface Row {
   expansion_coefficient_per_k: string;
   limit_ml: string | null;
   person_id: string | null;
+  person_active: boolean | null;
   is_member: boolean;
   factor_id: string | null;
   factor_lab_id: string;
@@ -155,6 +158,7 @@ export class FactorLookupRepository {
         limitMl: r.limit_ml,
       },
       personId: r.person_id,
+      personActive: r.person_active === true,
       isMember: r.is_member,
       factor: r.factor_id
         ? {

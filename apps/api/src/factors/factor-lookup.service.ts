@@ -48,7 +48,7 @@ const noVessel = (vessel: VesselKey) =>
 /**
  * Finds the factor a person may use on a vessel, applying the access rules and
  * the distinct problems in a fixed order: vessel visible → the person named may be
- * asked about → the person is a member of the vessel's lab → the vessel is in service
+ * asked about → the person is a member of the vessel's lab → the person is active and the vessel in service
  * (for the current factor) → a factor exists → it has not expired.
  */
 @Injectable()
@@ -88,6 +88,13 @@ export class FactorLookupService {
       );
     }
     const personId = found.personId;
+    // A disabled person no longer works in the lab: their factors answer only questions about the past.
+    if (req.at === null && !found.personActive) {
+      throw new DomainError('person-not-active', 'The person named is disabled: their factors may not be used.', undefined, {
+        ...ids,
+        personId,
+      });
+    }
     // A question about the past is answered whatever the vessel's status now; the current factor of a
     // quarantined or retired vessel is not usable.
     if (req.at === null && found.vessel.status !== 'in-service') {

@@ -87,6 +87,12 @@ export const PROBLEM_CATALOG = {
     description:
       'The vessel is quarantined or retired (`vesselStatus`): none of its factors may be used, and no nominal fallback is given.',
   },
+  'person-not-active': {
+    status: 409,
+    title: 'The person is disabled',
+    description:
+      'The person named is disabled in the registry: their current factors may not be used, and no nominal fallback is given. Questions about an instant in the past (`at`) are still answered.',
+  },
   'person-not-member': {
     status: 422,
     title: 'The person is not a member of the vessel’s lab',
