@@ -1,4 +1,4 @@
-import { seedPerson, seedVessel, sessionFor } from '../support/factories';
+import { bearer, seedPerson, seedTraceableInstruments, seedVessel, sessionFor } from '../support/factories';
 import { startTestApp, type TestApp } from '../support/test-app';
 import {
   type CalibrationWorld,
@@ -95,6 +95,44 @@ describe('what approval and void do beyond the record', () => {
     } finally {
       await w.prisma.lab.update({ where: { id: w.cast.lab.id }, data: { quarantineOnFailedCalibration: true } });
     }
+  });
+
+  it('a calibration approved after its balance failed the next routine check gets a factor marked for review', async () => {
+    // A balance of its own: the failure must not touch the other tests' balance.
+    const { balance, thermometer } = await seedTraceableInstruments(w.prisma, w.cast.lab.id, w.cast.people.manager.id, hoursAgo(2));
+    const vessel = await seedVessel(w.prisma, w.cast.lab.id);
+    const cal = await createAndSubmit(
+      analyst,
+      pipetteRun(w, PASSING, { vesselId: vessel.id, balanceId: balance.id, thermometerId: thermometer.id }),
+    );
+    // The check after the calibration fails (recorded before the approval, so its impact had no factor to mark).
+    const failedAt = hoursAgo(0.5);
+    await w.prisma.balanceCheck.create({
+      data: {
+        labId: w.cast.lab.id,
+        balanceId: balance.id,
+        performedById: w.cast.people.manager.id,
+        performedAt: failedAt,
+        kind: 'quick',
+        inputs: {},
+        results: {},
+        passed: false,
+        libraryVersion: 'test',
+      },
+    });
+    const approved = expectStatus(await manager.act(cal.id, 'approve', cal.etag), 200);
+    const factor = await w.prisma.factor.findUniqueOrThrow({ where: { id: approved.body.impact.factor.id as string } });
+    expect(factor.state).toBe('current');
+    expect(factor.reviewRequiredAt).not.toBeNull();
+    expect(factor.reviewReason).toBe(
+      `Balance ${balance.assetTag} failed its routine check of ${failedAt.toISOString()}, the first after this calibration was performed`,
+    );
+    const lookup = await t.http
+      .get('/v1/factors/current')
+      .query({ personId: w.cast.people.analyst.id, vesselId: vessel.id })
+      .set(bearer(w.cast.tokens.analyst))
+      .expect(200);
+    expect(lookup.body).toMatchObject({ reviewRequired: true, reviewReason: factor.reviewReason });
   });
 
   it('voiding an approved calibration withdraws its current factor in the same step', async () => {

@@ -57,6 +57,7 @@ export class FactorIssuer {
     const becomesCurrent = !current || current.validFrom.getTime() <= cal.performedAt.getTime();
     const now = this.clock.now();
     const values = factorValues(cal.points);
+    const review = await laterFailedCheck(tx, cal);
     // The old factor stops being current before the new one is written: the
     // one-current-factor index is checked row by row and cannot wait for commit.
     if (becomesCurrent && current) {
@@ -75,6 +76,7 @@ export class FactorIssuer {
         state: becomesCurrent ? 'current' : 'superseded',
         endedAt: becomesCurrent ? null : now,
         supersededById: becomesCurrent ? null : (current?.id ?? null),
+        ...(review ? { reviewRequiredAt: now, reviewReason: review } : {}),
       },
     });
     if (becomesCurrent && current) {
@@ -119,6 +121,25 @@ export class FactorIssuer {
     });
     return factor.id;
   }
+}
+
+/**
+ * A calibration approved after its balance failed a routine check that followed it was in that
+ * check's impact (performed since the last passing check), but had no factor to mark then: its
+ * factor is born marked for review, with the reason.
+ */
+async function laterFailedCheck(tx: Prisma.TransactionClient, cal: ApprovedCalibration): Promise<string | null> {
+  const rows = await tx.$queryRaw<{ passed: boolean; performed_at: Date; asset_tag: string }[]>`
+    SELECT bc.passed, bc.performed_at, b.asset_tag
+      FROM calibrations c
+      JOIN balance_checks bc ON bc.balance_id = c.balance_id AND bc.performed_at > c.performed_at
+      JOIN balances b ON b.id = c.balance_id
+     WHERE c.id = ${cal.id}::uuid
+     ORDER BY bc.performed_at, bc.created_at
+     LIMIT 1`;
+  const first = rows[0];
+  if (!first || first.passed) return null;
+  return `Balance ${first.asset_tag} failed its routine check of ${first.performed_at.toISOString()}, the first after this calibration was performed`;
 }
 
 /** Single factor (ratio and correction) for one point; a curve for several. */
