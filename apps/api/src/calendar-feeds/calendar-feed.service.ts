@@ -77,6 +77,8 @@ export class CalendarFeedService {
 
   async list(ctx: RequestContext, labId: string, q: FeedListQuery): Promise<Page<FeedView>> {
     assertMayList(ctx.actor, labId);
+    if (!(await this.prisma.lab.findUnique({ where: { id: labId }, select: { id: true } })))
+      throw new DomainError('not-found', 'No lab with that id.');
     const after = q.cursor === undefined ? null : decodeCursor(q.cursor).id;
     const rows = await this.prisma.calendarFeed.findMany({
       where: { labId, ...(after ? { id: { gt: after } } : {}) },

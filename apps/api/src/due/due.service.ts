@@ -49,10 +49,12 @@ const CURSOR_KEY = new RegExp(`^(\\d{4}-\\d{2}-\\d{2})\\|(${SUBJECT_KINDS.join('
 function decodeDueCursor(cursor: string): DueAfter {
   const { sortValue, id } = decodeCursor(cursor);
   const match = sortValue === null ? null : CURSOR_KEY.exec(sortValue);
-  if (!match?.[1] || !match[2] || Number.isNaN(Date.parse(match[1]))) {
+  const dueOn = match?.[1];
+  // A calendar date PostgreSQL stores: years 0001 to 9999, and a day that exists (no 31 February).
+  if (!dueOn || !match[2] || dueOn < '0001' || Number.isNaN(Date.parse(dueOn)) || isoDay(new Date(`${dueOn}T00:00:00Z`)) !== dueOn) {
     throw new DomainError('validation-failed', 'The cursor is not one this API issued.', [{ field: 'cursor', reason: 'invalid cursor' }]);
   }
-  return { dueOn: match[1], subjectKind: match[2] as SubjectKind, subjectId: id };
+  return { dueOn, subjectKind: match[2] as SubjectKind, subjectId: id };
 }
 
 @Injectable()

@@ -56,6 +56,8 @@ export class DuePolicyService {
     const scope = { vesselKind: body.vesselKind ?? null, accuracyClass: body.accuracyClass ?? null };
     this.assertConsistent(body.subjectKind, values, scope);
     const created = await this.prisma.$transaction(async (tx) => {
+      if (!(await tx.lab.findUnique({ where: { id: body.labId }, select: { id: true } })))
+        throw new DomainError('not-found', 'No lab with that id.');
       const policy = await this.policies.create(tx, { labId: body.labId, subjectKind: body.subjectKind, ...scope, ...values }, now);
       await this.audit.record(tx, ctx, {
         action: 'create',
