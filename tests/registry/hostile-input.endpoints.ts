@@ -10,7 +10,6 @@ import {
   UpdateBalanceSchema,
 } from '../../apps/api/src/balances/balance.schemas';
 import { createFeedSchema, feedListQuerySchema } from '../../apps/api/src/calendar-feeds/calendar-feed.schemas';
-import { createFeedSchema, feedListQuerySchema } from '../../apps/api/src/calendar-feeds/calendar-feed.schemas';
 import { BalanceCheckRequestSchema } from '../../apps/api/src/calculations/balance.schemas';
 import { EXAMPLES } from '../../apps/api/src/calculations/calculations.examples';
 import {
@@ -35,7 +34,6 @@ import { deliveryListQuerySchema } from '../../apps/api/src/deliveries/delivery.
 import { CreateExportSchema, ExportListQuerySchema, VerifyDigestSchema } from '../../apps/api/src/exports/export.schemas';
 import { CorrectionRequestSchema, CurrentFactorQuerySchema, FactorListQuerySchema } from '../../apps/api/src/factors/factor.schemas';
 import { dueListQuerySchema } from '../../apps/api/src/due/due.schemas';
-import { dueListQuerySchema } from '../../apps/api/src/due/due.schemas';
 import { OutOfToleranceRequestSchema } from '../../apps/api/src/impact/out-of-tolerance.schemas';
 import {
   CreateInstrumentSchema,
@@ -46,9 +44,7 @@ import {
 import { createLabSchema, labListQuerySchema, updateLabSchema } from '../../apps/api/src/labs/labs.schemas';
 import { setMembershipSchema } from '../../apps/api/src/labs/memberships.schemas';
 import { noticeListQuerySchema } from '../../apps/api/src/notices/notice.schemas';
-import { noticeListQuerySchema } from '../../apps/api/src/notices/notice.schemas';
 import { createPersonSchema, personListQuerySchema, updatePersonSchema } from '../../apps/api/src/people/people.schemas';
-import { changeListQuerySchema, createPolicySchema, policyListQuerySchema } from '../../apps/api/src/policies/due-policy.schemas';
 import { changeListQuerySchema, createPolicySchema, policyListQuerySchema } from '../../apps/api/src/policies/due-policy.schemas';
 import {
   CreateReferenceWeightSchema,
@@ -80,20 +76,6 @@ const version = async (read: Promise<{ version: number }>) => `"v${(await read).
 const PASSWORD_FAILURES = ['sign_in_failures', 'audit_entries'];
 
 export const BODY_ENDPOINTS: readonly BodyEndpoint[] = [
-  {
-    route: 'POST /v1/due-policies',
-    schema: createPolicySchema,
-    seed: (w) => ({ labId: w.labA, subjectKind: 'instrument', intervalDays: 365, dueSoonDays: 30, reason: 'Thermometers once a year' }),
-    path: () => '/v1/due-policies',
-    as: (w) => w.tokens.manager,
-  },
-  {
-    route: 'POST /v1/labs/:labId/calendar-feeds',
-    schema: createFeedSchema,
-    seed: () => ({ name: 'DW-CHEM shared calendar' }),
-    path: (w) => `/v1/labs/${w.labA}/calendar-feeds`,
-    as: (w) => w.tokens.manager,
-  },
   {
     route: 'POST /v1/due-policies',
     schema: createPolicySchema,
@@ -360,11 +342,6 @@ export const QUERY_ENDPOINTS: readonly QueryEndpoint[] = [
   { route: 'GET /v1/due-policies', schema: policyListQuerySchema, path: () => '/v1/due-policies' },
   { route: 'GET /v1/interval-changes', schema: changeListQuerySchema, path: () => '/v1/interval-changes' },
   { route: 'GET /v1/labs/:labId/calendar-feeds', schema: feedListQuerySchema, path: (w) => `/v1/labs/${w.labA}/calendar-feeds` },
-  { route: 'GET /v1/due', schema: dueListQuerySchema, path: () => '/v1/due' },
-  { route: 'GET /v1/notices', schema: noticeListQuerySchema, path: () => '/v1/notices' },
-  { route: 'GET /v1/due-policies', schema: policyListQuerySchema, path: () => '/v1/due-policies' },
-  { route: 'GET /v1/interval-changes', schema: changeListQuerySchema, path: () => '/v1/interval-changes' },
-  { route: 'GET /v1/labs/:labId/calendar-feeds', schema: feedListQuerySchema, path: (w) => `/v1/labs/${w.labA}/calendar-feeds` },
   { route: 'GET /v1/vessels', schema: VesselListQuerySchema, path: () => '/v1/vessels', sorts: VESSEL_SORTS },
   { route: 'GET /v1/balances', schema: BalanceListQuerySchema, path: () => '/v1/balances', sorts: BALANCE_SORTS },
   {
@@ -399,12 +376,6 @@ export const QUERY_ENDPOINTS: readonly QueryEndpoint[] = [
 
 /** Routes with path parameters, to be called with malformed or unknown ids. */
 export const PARAM_ROUTES: readonly string[] = [
-  'GET /v1/due-policies/:policyId',
-  'PATCH /v1/due-policies/:policyId',
-  'POST /v1/notices/:noticeId/acknowledge',
-  'GET /v1/labs/:labId/calendar-feeds',
-  'POST /v1/labs/:labId/calendar-feeds',
-  'POST /v1/labs/:labId/calendar-feeds/:feedId/revoke',
   'GET /v1/due-policies/:policyId',
   'PATCH /v1/due-policies/:policyId',
   'POST /v1/notices/:noticeId/acknowledge',
