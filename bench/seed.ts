@@ -55,7 +55,7 @@ async function main(): Promise<void> {
   const db = new Client({ connectionString: server.ownerUrl });
   await db.connect();
   try {
-    const result = await seedRegistry(db, {
+    const result = await seedRegistry(server.ownerUrl, {
       size: o.size,
       seed: o.seed,
       asOf: o.asOf,

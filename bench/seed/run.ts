@@ -1,11 +1,11 @@
-import type { Client } from 'pg';
+import { Client } from 'pg';
 
 import { newCredentialKey } from '../../apps/api/src/auth/tokens';
 import { hashPassword } from '../../apps/api/src/sessions/password-hashing';
 import { CHECK_LIBRARY_VERSION, type CheckRow, checksOf, planChecks } from './balance-checks';
 import { buildVesselTypes } from './calibration-templates';
 import { BALANCE_MODELS, VESSEL_MODELS } from './catalogue';
-import { type CopyValue, copyRows } from './copy-writer';
+import { type CopyValue, copyChunks, copyRows, serializeRows } from './copy-writer';
 import {
   type AuditRow,
   CALIBRATION_COLUMNS,
@@ -67,10 +67,43 @@ const FACTOR_VALIDITY_DAYS = 365;
 
 const auditRows = (rows: readonly AuditRow[]) => rows.map((r): CopyValue[] => [...r, REQUEST_ID, '\\x']);
 
-export async function seedRegistry(db: Client, o: SeedOptions): Promise<SeedResult> {
+/*
+ * The triggers' queries (the due dates kept by due_track, the audit chain's head) are planned once per
+ * connection, with the statistics of the moment: planned on empty tables they scan whole tables and the
+ * load slows down row by row. Fresh statistics now and then, as the tables grow, keep them on indexes.
+ */
+const REFRESH_STATISTICS_AFTER = new Set([0, 2, 8, 32, 128, 512]);
+const GROWING_TABLES = ['vessels', 'calibrations', 'factors', 'balance_checks', 'balances', 'due_dates', 'audit_entries'];
+
+async function refreshStatistics(db: Client): Promise<void> {
+  await db.query(`ANALYZE ${GROWING_TABLES.join(', ')}`);
+}
+
+/** Connections: one writes the audit trail (in batch order, so the chain's order is the seed's), two the data. */
+const DATA_CONNECTIONS = 2;
+
+async function connect(url: string): Promise<Client> {
+  const client = new Client({ connectionString: url });
+  await client.connect();
+  // A crash loses at most the last moments of the load; nothing else changes.
+  await client.query('SET synchronous_commit = off');
+  return client;
+}
+
+export async function seedRegistry(ownerUrl: string, o: SeedOptions): Promise<SeedResult> {
+  const db = await connect(ownerUrl);
+  const data: Client[] = [];
+  try {
+    for (let i = 0; i < DATA_CONNECTIONS; i++) data.push(await connect(ownerUrl));
+    return await seedWith(db, data, o);
+  } finally {
+    for (const c of [db, ...data]) await c.end();
+  }
+}
+
+async function seedWith(db: Client, data: readonly Client[], o: SeedOptions): Promise<SeedResult> {
   const { rows } = await db.query<{ n: string }>('SELECT count(*)::text AS n FROM labs');
   if (rows[0]?.n !== '0') throw new Error('the database already holds labs: seed an empty registry (a fresh data folder or database)');
-  await db.query('SET synchronous_commit = off');
   const rnd = new SeededRandom(o.seed);
   const world = buildWorld(o.size, o.asOf, rnd);
   const started = Date.now();
@@ -99,13 +132,32 @@ export async function seedRegistry(db: Client, o: SeedOptions): Promise<SeedResu
   const ids = rnd.fork('history-ids');
   const pairs: SeedResult['pairs'] = [];
   const bar = new Progress('calibrations', o.size.calibrations, 'calibrations');
-  for (let from = 0; from < o.size.vessels; from += o.batchVessels) {
-    const batch = buildBatch(ctx, counts, from, Math.min(o.size.vessels, from + o.batchVessels), history, ids);
-    await copyRows(db, 'vessels', VESSEL_COLUMNS, batch.vessels);
-    await copyRows(db, 'calibrations', CALIBRATION_COLUMNS, batch.calibrations, (n) => bar.tick(n));
-    await copyRows(db, 'factors', FACTOR_COLUMNS, batch.factors);
-    await copyRows(db, 'audit_entries', AUDIT_COLUMNS, auditRows(batch.audit));
-    for (const p of batch.currentPairs) {
+  // A pipeline: batches are generated here in order; each goes to the next data connection (its vessels,
+  // calibrations and factors), then its audit entries to the audit connection, in batch order.
+  const dataTasks: Promise<void>[] = data.map(() => Promise.resolve());
+  const auditTasks: Promise<void>[] = [];
+  let auditTail: Promise<void> = Promise.resolve();
+  const handled = (p: Promise<void>) => {
+    p.catch(() => undefined);
+    return p;
+  };
+  let index = 0;
+  for (let from = 0; from < o.size.vessels; from += o.batchVessels, index++) {
+    const slot = index % data.length;
+    await dataTasks[slot];
+    if (index > 2 * data.length) await auditTasks[index - 2 * data.length];
+    const to = Math.min(o.size.vessels, from + o.batchVessels);
+    const parts = [];
+    for (let start = from; start < to; start += 50) {
+      parts.push(buildBatch(ctx, counts, start, Math.min(to, start + 50), history, ids));
+      // Let the connections stream while the batch is built.
+      await new Promise((resolve) => setImmediate(resolve));
+    }
+    const vessels = serializeRows(parts.flatMap((b) => b.vessels));
+    const calibrations = serializeRows(parts.flatMap((b) => b.calibrations));
+    const factors = serializeRows(parts.flatMap((b) => b.factors));
+    const audit = serializeRows(auditRows(parts.flatMap((b) => b.audit)));
+    for (const p of parts.flatMap((b) => b.currentPairs)) {
       if (pairs.length < o.samplePairs) {
         pairs.push({
           personId: p.person.id,
@@ -116,7 +168,21 @@ export async function seedRegistry(db: Client, o: SeedOptions): Promise<SeedResu
         });
       }
     }
+    const conn = data[slot] as Client;
+    const done = handled(
+      (async () => {
+        await copyChunks(conn, 'vessels', VESSEL_COLUMNS, vessels);
+        await copyChunks(conn, 'calibrations', CALIBRATION_COLUMNS, calibrations);
+        bar.tick(calibrations.count);
+        await copyChunks(conn, 'factors', FACTOR_COLUMNS, factors);
+      })(),
+    );
+    dataTasks[slot] = done;
+    auditTail = handled(Promise.all([auditTail, done]).then(() => copyChunks(db, 'audit_entries', AUDIT_COLUMNS, audit)));
+    if (REFRESH_STATISTICS_AFTER.has(index)) auditTail = handled(auditTail.then(() => refreshStatistics(db)));
+    auditTasks.push(auditTail);
   }
+  await Promise.all([...dataTasks, auditTail]);
   bar.finish();
   const analyzed = Date.now();
   await db.query('ANALYZE');
@@ -418,6 +484,7 @@ async function seedChecks(db: Client, world: World, total: number, rnd: SeededRa
     };
     await copyRows(db, 'balance_checks', CHECK_COLUMNS, rows(), (n) => bar.tick(n));
     await copyRows(db, 'audit_entries', AUDIT_COLUMNS, auditRows(audit));
+    if (lab === world.labs[0] || lab === world.labs[3]) await refreshStatistics(db);
   }
   bar.finish();
   // What the passing USP <41> checks left on each balance: its minimum weight.

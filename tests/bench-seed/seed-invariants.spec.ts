@@ -15,9 +15,9 @@ const AS_OF = new Date('2026-03-02T00:00:00Z');
 const OPTIONS = { size: SIZES.XS, seed: 7, asOf: AS_OF, templatesPerModel: 4, batchVessels: 25, samplePairs: 20 } as const;
 
 async function seedInto(url: string, seed: number): Promise<{ client: Client; result: SeedResult }> {
+  const result = await seedRegistry(url, { ...OPTIONS, seed });
   const client = new Client({ connectionString: url });
   await client.connect();
-  const result = await seedRegistry(client, { ...OPTIONS, seed });
   return { client, result };
 }
 
