@@ -85,8 +85,8 @@ export class ExportService {
   ) {}
 
   async start(ctx: RequestContext, body: CreateExport): Promise<StartedExport> {
-    const actor = ctx.actor as PersonActor;
     const scope = exportScope(ctx.actor);
+    const actor = ctx.actor as PersonActor;
     const now = this.clock.now();
     const asOf = body.asOf === undefined ? now : new Date(body.asOf);
     if (asOf.getTime() > now.getTime() + AS_OF_SKEW_MS) throw invalid('asOf', 'must not be in the future');
