@@ -192,6 +192,16 @@ describe('due dates', () => {
     expect(seen).toEqual(all.map((i) => `${i.subjectKind}:${i.subjectId}`));
   });
 
+  it('moves local due dates when the lab changes its time zone', async () => {
+    const lab = await w.prisma.lab.create({ data: { code: 'TEACH-TZ', name: 'Teaching laboratory', timeZone: 'UTC' } });
+    // Registered at 23:30 UTC on 14 December: the 14th in UTC, already the 15th in Vienna.
+    const vessel = await seedVessel(w.prisma, lab.id, { createdAt: new Date('2026-12-14T23:30:00Z') });
+    const dueOn = async () => (await list({ labId: lab.id })).find((i) => i.subjectId === vessel.id)?.dueOn;
+    expect(await dueOn()).toBe('2026-12-14');
+    await w.prisma.lab.update({ where: { id: lab.id }, data: { timeZone: 'Europe/Vienna' } });
+    expect(await dueOn()).toBe('2026-12-15');
+  });
+
   it('answers a malformed filter with a problem naming it', async () => {
     for (const [query, field] of [
       [{ state: 'late' }, 'state'],
