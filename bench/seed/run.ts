@@ -87,6 +87,10 @@ async function connect(url: string): Promise<Client> {
   await client.connect();
   // A crash loses at most the last moments of the load; nothing else changes.
   await client.query('SET synchronous_commit = off');
+  // The due-date trigger looks its subject up in one view over every kind of item (due_computed): a custom
+  // plan for each row replans the whole view (about 5 ms a row here); the generic plan is reused (under 1 ms).
+  // Same rows and results, planned once per connection.
+  await client.query('SET plan_cache_mode = force_generic_plan');
   return client;
 }
 
