@@ -10,6 +10,8 @@ import type { ReportRow, RowWriter } from './row-formats';
 export const EXPORT_BATCH_ROWS = 1_000;
 /** The longest an export's query may run: a million rows take about a minute; a client that stalls longer loses the export. */
 export const EXPORT_STATEMENT_TIMEOUT_MS = 30 * 60_000;
+/** Rows turned into bytes at a time (about 60 KB of CSV for a calibration log). */
+const WRITE_SLICE_ROWS = 100;
 /** Bytes buffered in the stream before it waits for the client to read them. */
 const HIGH_WATER_MARK = 64 * 1024;
 
@@ -91,6 +93,15 @@ export class ExportStream {
     return this.cancelling;
   }
 
+  /**
+   * A batch written a slice at a time: each slice's text stays small enough for the young
+   * generation of the JavaScript heap (a string of a whole batch would go straight to the old
+   * generation, which grows the process before it is collected).
+   */
+  private *write(writer: RowWriter, batch: readonly ReportRow[]): Generator<Buffer, void, undefined> {
+    for (let i = 0; i < batch.length; i += WRITE_SLICE_ROWS) yield* this.emit(writer.rows(batch.slice(i, i + WRITE_SLICE_ROWS)));
+  }
+
   private *emit(chunk: Buffer): Generator<Buffer, void, undefined> {
     if (chunk.length === 0) return;
     this.hash.update(chunk);
@@ -118,10 +129,11 @@ export class ExportStream {
         }),
       );
       let batch = await this.fetch(cursor);
-      yield* this.emit(Buffer.concat([writer.begin(), writer.rows(batch)]));
+      yield* this.emit(writer.begin());
+      yield* this.write(writer, batch);
       while (batch.length > 0) {
         batch = await this.fetch(cursor);
-        if (batch.length > 0) yield* this.emit(writer.rows(batch));
+        yield* this.write(writer, batch);
       }
       yield* this.emit(writer.end());
       await cursor.close();
