@@ -3,8 +3,10 @@ import { METROLOGY_LIBRARY_VERSION } from '@registry/metrology';
 import { type CalibrationTemplate, type VesselType, inputsJson, resultsJson } from './calibration-templates';
 import { usableCheckTimes } from './balance-checks';
 import type { CopyValue } from './copy-writer';
+import type { AuditRow } from './columns';
+import { type Planned, type State, calibrationLines } from './workflow';
 import type { SeededRandom } from './random';
-import { type Balance, DAY_MS, type Lab, type Person, type World } from './world';
+import { DAY_MS, type Lab, type Person, type World } from './world';
 
 /*
  * One batch of vessels with their whole calibration history: the calibrations (most approved,
@@ -12,18 +14,6 @@ import { type Balance, DAY_MS, type Lab, type Person, type World } from './world
  * person and vessel the newest current, the older superseded, withdrawn where the approved
  * calibration was later voided) and the audit entries of each step.
  */
-
-export type AuditRow = readonly [
-  actorKind: 'person' | 'system',
-  actorId: string | null,
-  action: string,
-  entityType: string,
-  entityId: string,
-  labId: string | null,
-  oldValues: object | null,
-  newValues: object | null,
-  reason: string | null,
-];
 
 export interface Batch {
   readonly vessels: CopyValue[][];
@@ -33,105 +23,6 @@ export interface Batch {
   /** Current factors: (person, vessel) pairs a lookup finds. */
   readonly currentPairs: { person: Person; vesselId: string; assetTag: string; indicatedVolumeMl: string }[];
 }
-
-type State = 'draft' | 'submitted' | 'approved' | 'returned' | 'voided';
-
-interface Planned {
-  readonly id: string;
-  readonly performer: Person;
-  readonly balance: Balance;
-  readonly thermometerId: string;
-  readonly performedAt: Date;
-  readonly template: CalibrationTemplate;
-  readonly shift: number;
-  state: State;
-  /** Voided after approval (its factor, if current, is withdrawn). */
-  voidedAfterApproval: boolean;
-}
-
-const VOID_REASONS = ['Entered against the wrong vessel.', 'Duplicate of an earlier entry.', 'Water temperature logged for the wrong run.'];
-const RETURN_NOTES = ['Replicate 3 looks mistyped; check the printout.', 'Air conditions missing from the worksheet; please add them.'];
-const REVIEW_NOTES = [null, null, null, 'Raw data checked against the balance printout.', 'Worksheet complete.'];
-
-export const VESSEL_COLUMNS = [
-  'id',
-  'lab_id',
-  'asset_tag',
-  'kind',
-  'delivery_mode',
-  'nominal_volume_ml',
-  'graduation_interval_ml',
-  'accuracy_class',
-  'class_standard',
-  'material',
-  'expansion_coefficient_per_k',
-  'maker_serial',
-  'location',
-  'limit_ml',
-  'limit_source',
-  'limit_reason',
-  'status',
-  'notes',
-  'version',
-  'created_at',
-  'updated_at',
-] as const;
-
-export const CALIBRATION_COLUMNS = [
-  'id',
-  'lab_id',
-  'vessel_id',
-  'performer_id',
-  'entered_by_id',
-  'balance_id',
-  'thermometer_id',
-  'state',
-  'performed_at',
-  'delivery_mode',
-  'air_temperature_c',
-  'air_pressure_pa',
-  'air_humidity_percent',
-  'air_density_kg_per_m3',
-  'inputs',
-  'results',
-  'verdict',
-  'library_version',
-  'notes',
-  'submitted_at',
-  'traceability_exception',
-  'reviewer_id',
-  'reviewed_at',
-  'review_note',
-  'voided_by_id',
-  'voided_at',
-  'void_reason',
-  'version',
-  'created_at',
-  'updated_at',
-] as const;
-
-export const FACTOR_COLUMNS = [
-  'id',
-  'lab_id',
-  'person_id',
-  'vessel_id',
-  'calibration_id',
-  'kind',
-  'factor',
-  'correction_ml',
-  'curve',
-  'expanded_uncertainty_ml',
-  'coverage_factor',
-  'reference_temperature_c',
-  'valid_from',
-  'valid_until',
-  'state',
-  'ended_at',
-  'superseded_by_id',
-  'review_required_at',
-  'review_reason',
-  'created_at',
-] as const;
 
 const minutes = (n: number) => n * 60_000;
 
@@ -427,103 +318,4 @@ function checkAtOrBefore(times: readonly number[], target: number): number {
 
 function pickDistinct<T>(items: readonly T[], count: number, rnd: SeededRandom): T[] {
   return rnd.sample(items.length, count).map((i) => items[i] as T);
-}
-
-/** The workflow columns of one calibration and the audit entry of its last step. */
-function calibrationLines(p: Planned, lab: Lab, vesselId: string, rnd: SeededRandom, clamp: (ms: number) => Date) {
-  const createdAt = clamp(p.performedAt.getTime() + minutes(rnd.int(10, 120)));
-  const managers = lab.managers.filter((m) => m.id !== p.performer.id);
-  const reviewer = managers.length > 0 ? rnd.pick(managers) : null;
-  const enteredById = rnd.chance(0.1) && reviewer ? reviewer.id : p.performer.id;
-  const submitted = p.state !== 'draft' && !(p.state === 'voided' && !p.voidedAfterApproval);
-  const submittedAt = submitted ? clamp(createdAt.getTime() + minutes(rnd.int(5, 60))) : null;
-  const reviewed = p.state === 'approved' || p.state === 'returned' || p.voidedAfterApproval;
-  const reviewedAt = reviewed && submittedAt ? clamp(submittedAt.getTime() + minutes(rnd.int(60, 3 * 24 * 60))) : null;
-  const voided = p.state === 'voided';
-  const voidedAt = voided ? clamp((reviewedAt ?? createdAt).getTime() + minutes(rnd.int(30, 20 * 24 * 60))) : null;
-  const voidReason = voided ? rnd.pick(VOID_REASONS) : null;
-  const voidedById = voided ? (reviewer ?? p.performer).id : null;
-  const reviewNote = p.state === 'returned' ? rnd.pick(RETURN_NOTES) : reviewed ? rnd.pick(REVIEW_NOTES) : null;
-  const version = { draft: 1, submitted: 2, approved: 3, returned: 3, voided: p.voidedAfterApproval ? 4 : 2 }[p.state];
-  const updatedAt = voidedAt ?? reviewedAt ?? submittedAt ?? createdAt;
-  const reviewerId = reviewed ? (reviewer ?? p.performer).id : null;
-  const audit = (factorId: string | null): AuditRow => {
-    const old = {
-      state: voided ? (p.voidedAfterApproval ? 'approved' : 'draft') : p.state === 'draft' ? null : 'submitted',
-      version: version - 1,
-    };
-    switch (p.state) {
-      case 'draft':
-        return [
-          'person',
-          enteredById,
-          'create',
-          'calibration',
-          p.id,
-          lab.id,
-          null,
-          { vesselId, performerId: p.performer.id, performedAt: p.performedAt, state: 'draft', version: 1 },
-          null,
-        ];
-      case 'submitted':
-        return [
-          'person',
-          enteredById,
-          'submit',
-          'calibration',
-          p.id,
-          lab.id,
-          { state: 'draft', version: 1 },
-          { state: 'submitted', verdict: p.template.verdict, libraryVersion: METROLOGY_LIBRARY_VERSION, version },
-          null,
-        ];
-      case 'returned':
-        return ['person', reviewerId, 'return', 'calibration', p.id, lab.id, old, { state: 'returned', reviewerId, version }, reviewNote];
-      case 'approved':
-        return [
-          'person',
-          reviewerId,
-          'approve',
-          'calibration',
-          p.id,
-          lab.id,
-          old,
-          {
-            state: 'approved',
-            verdict: p.template.verdict,
-            reviewerId,
-            factorId,
-            vesselQuarantined: p.template.verdict === 'fail',
-            version,
-          },
-          reviewNote,
-        ];
-      case 'voided':
-        return [
-          'person',
-          voidedById,
-          'void',
-          'calibration',
-          p.id,
-          lab.id,
-          old,
-          { state: 'voided', voidedById, withdrawnFactorId: factorId, version },
-          voidReason,
-        ];
-    }
-  };
-  return {
-    createdAt,
-    enteredById,
-    submittedAt,
-    reviewerId,
-    reviewedAt,
-    reviewNote,
-    voidedAt,
-    voidReason,
-    voidedById,
-    version,
-    updatedAt,
-    audit,
-  };
 }
