@@ -7,11 +7,11 @@ import Cursor from 'pg-cursor';
 import type { ReportRow, RowWriter } from './row-formats';
 
 /** Rows fetched from the cursor at a time: enough to amortise the round trip, small enough to stay flat in memory. */
-export const EXPORT_BATCH_ROWS = 1_000;
+export const EXPORT_BATCH_ROWS = 500;
 /** The longest an export's query may run: a million rows take about a minute; a client that stalls longer loses the export. */
 export const EXPORT_STATEMENT_TIMEOUT_MS = 30 * 60_000;
 /** Rows turned into bytes at a time (about 60 KB of CSV for a calibration log). */
-const WRITE_SLICE_ROWS = 100;
+const WRITE_SLICE_ROWS = 50;
 /** Bytes buffered in the stream before it waits for the client to read them. */
 const HIGH_WATER_MARK = 64 * 1024;
 
