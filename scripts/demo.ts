@@ -7,6 +7,8 @@ import type { SystemContext } from '../apps/api/src/auth/actor';
 import { ConfigError, parseConfig } from '../apps/api/src/config/config.schema';
 import { hashPassword, newInitialPassword } from '../apps/api/src/sessions/password-hashing';
 import { resolveVessel } from '../apps/api/src/vessels/vessel-rules';
+import { loadHistory } from './demo/history';
+import { HISTORY_DAYS } from './demo/plan';
 import { DEMO_BALANCES, DEMO_INSTRUMENTS, DEMO_LABS, DEMO_PEOPLE, DEMO_VESSELS, DEMO_WEIGHTS, type DemoVessel } from './demo/scenario';
 import { databaseServerOptions } from '../apps/api/src/config/database-server-options';
 
@@ -15,13 +17,16 @@ const ctx: SystemContext = { actor: { kind: 'system' }, requestId: 'demo-data' }
 
 /**
  * `npm run demo`: loads the demo scenario (a fictional municipal water
- * authority) into the registry and prints the demo people's passwords.
+ * authority) into the registry, then a year of its history through the
+ * service's own API (demo/history.ts), and prints the demo people's passwords.
  * Refuses to run twice. Never use it on a registry with real data.
  */
 async function main(): Promise<void> {
-  const config = parseConfig(process.env);
+  const started = Date.now();
+  // The history drives the app in-process; its scheduler runs one pass at the end, not on a timer.
+  const config = parseConfig({ ...process.env, SCHEDULER_ENABLED: 'false' });
   const server = await openDatabaseServer(databaseServerOptions(config, (m) => console.error(m)));
-  const database = createDatabase({ databaseUrl: server.url, poolMax: 2 });
+  const database = createDatabase({ databaseUrl: server.url, poolMax: 4 });
   try {
     if (await database.prisma.lab.findUnique({ where: { code: DEMO_LABS[0].code } })) {
       console.log(`The demo data is already loaded (lab ${DEMO_LABS[0].code} exists); nothing changed.`);
@@ -43,6 +48,11 @@ async function main(): Promise<void> {
       { timeout: 120_000 },
     );
     console.log(`Demo data loaded: ${counts}.`);
+    const history = await loadHistory(config, database, new Date());
+    console.log(
+      `History of ${HISTORY_DAYS} days loaded through the API: ${history.calibrations} calibrations, ` +
+        `${history.checks} balance checks (${history.requests} requests, ${((Date.now() - started) / 1000).toFixed(1)} s).`,
+    );
     console.log('Demo people (password shown only now):');
     DEMO_PEOPLE.forEach((p, i) => {
       const role = p.registryRole ?? p.labs?.map((m) => `${m.role} ${m.lab}`).join(', ');
@@ -57,6 +67,8 @@ async function main(): Promise<void> {
 async function load(tx: PrismaClient, hashes: string[], now: Date): Promise<string> {
   const audit = new AuditWriter();
   const day = (offset: number) => new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate()) + offset * DAY_MS);
+  // Items are registered on the first day of the history, so their due dates run from then.
+  const createdAt = day(-HISTORY_DAYS);
   const labs = new Map<string, string>();
   for (const lab of DEMO_LABS) {
     const created = await tx.lab.create({ data: lab });
@@ -103,7 +115,7 @@ async function load(tx: PrismaClient, hashes: string[], now: Date): Promise<stri
     }
   }
   for (const v of DEMO_VESSELS) {
-    const vessel = await tx.vessel.create({ data: vesselData(v, labId(v.lab)) });
+    const vessel = await tx.vessel.create({ data: { ...vesselData(v, labId(v.lab)), createdAt } });
     await audit.record(tx, ctx, {
       action: 'create',
       entityType: 'vessel',
@@ -114,18 +126,17 @@ async function load(tx: PrismaClient, hashes: string[], now: Date): Promise<stri
     });
   }
   for (const b of DEMO_BALANCES) {
-    const { lab, tag, calibratedDaysAgo, dueInDays, minimumWeightG, ...rest } = b;
+    const { lab, tag, calibratedDaysAgo, dueInDays, ...rest } = b;
     const balance = await tx.balance.create({
       data: {
         ...rest,
+        createdAt,
         labId: labId(lab),
         assetTag: tag,
         externalCalibrationDate: day(-calibratedDaysAgo),
         externalCalibrationDue: day(dueInDays),
         externalCalibrationCertificate: `DKX-${tag}-${day(-calibratedDaysAgo).getUTCFullYear()}`,
         externalCalibrationProvider: 'Regional calibration service (demo)',
-        minimumWeightG,
-        minimumWeightDeterminedAt: minimumWeightG ? day(-7) : null,
       },
     });
     await audit.record(tx, ctx, {
@@ -142,6 +153,7 @@ async function load(tx: PrismaClient, hashes: string[], now: Date): Promise<stri
     const weight = await tx.referenceWeight.create({
       data: {
         ...rest,
+        createdAt,
         labId: labId(lab),
         assetTag: tag,
         densityKgPerM3: '8000',
@@ -163,6 +175,7 @@ async function load(tx: PrismaClient, hashes: string[], now: Date): Promise<stri
     const instrument = await tx.instrument.create({
       data: {
         ...rest,
+        createdAt,
         labId: labId(lab),
         assetTag: tag,
         calibrationDate: day(dueInDays - 365),

@@ -5,7 +5,7 @@
 export const DEMO_LABS = [
   { code: 'DW-CHEM', name: 'Drinking-water chemistry', timeZone: 'Europe/Berlin' },
   { code: 'WW-LAB', name: 'Wastewater laboratory', timeZone: 'Europe/Berlin' },
-  { code: 'TEACH', name: 'Teaching laboratory', timeZone: 'Europe/Berlin' },
+  { code: 'TEACH', name: 'Teaching laboratory', timeZone: 'Europe/Berlin', factorValidityDays: 180 },
 ] as const;
 
 export type DemoLabCode = (typeof DEMO_LABS)[number]['code'];
@@ -107,7 +107,7 @@ const LAB_VESSELS: readonly DemoVessel[] = [
   flask('DW-CHEM', 4, '250', 'Room 1.12, cabinet B'),
   flask('DW-CHEM', 5, '500', 'Room 1.12, cabinet B'),
   flask('DW-CHEM', 6, '1000', 'Room 1.14, ion chromatography'),
-  flask('DW-CHEM', 7, '100', 'Room 1.14, ion chromatography', 'quarantined'),
+  flask('DW-CHEM', 7, '100', 'Room 1.14, ion chromatography'),
   pipette('DW-CHEM', 1, '5', 'AS', 'Room 1.12, bench 2'),
   pipette('DW-CHEM', 2, '10', 'AS', 'Room 1.12, bench 2'),
   pipette('DW-CHEM', 3, '20', 'A', 'Room 1.12, bench 3'),
@@ -215,7 +215,7 @@ const LAB_VESSELS: readonly DemoVessel[] = [
   flask('TEACH', 3, '250', 'Teaching room, cupboard 1'),
   pipette('TEACH', 1, '10', 'B', 'Teaching room, cupboard 2'),
   pipette('TEACH', 2, '10', 'B', 'Teaching room, cupboard 2'),
-  pipette('TEACH', 3, '25', 'B', 'Teaching room, cupboard 2', 'quarantined'),
+  pipette('TEACH', 3, '25', 'B', 'Teaching room, cupboard 2'),
   {
     lab: 'TEACH',
     tag: 'BUR-50-004',
@@ -251,7 +251,10 @@ const LAB_VESSELS: readonly DemoVessel[] = [
 /** Asset tags carry the lab's prefix, so each lab numbers its own glassware. */
 export const DEMO_VESSELS: readonly DemoVessel[] = LAB_VESSELS.map((v) => ({ ...v, tag: `${PREFIX[v.lab]}-${v.tag}` }));
 
-/** Dates are relative to the day the demo is loaded, so due and overdue items stay realistic. */
+/**
+ * Dates are relative to the day the demo is loaded, so due and overdue items stay realistic.
+ * Minimum weights come from the USP <41> checks in the history.
+ */
 export const DEMO_BALANCES = [
   {
     lab: 'DW-CHEM',
@@ -262,7 +265,6 @@ export const DEMO_BALANCES = [
     location: 'Room 1.13, weighing table 1',
     calibratedDaysAgo: 120,
     dueInDays: 245,
-    minimumWeightG: '0.0164',
   },
   {
     lab: 'DW-CHEM',
@@ -273,7 +275,6 @@ export const DEMO_BALANCES = [
     location: 'Room 1.13, weighing table 2',
     calibratedDaysAgo: 340,
     dueInDays: 25,
-    minimumWeightG: '0.0082',
   },
   {
     lab: 'WW-LAB',
@@ -284,7 +285,6 @@ export const DEMO_BALANCES = [
     location: 'Hall 2, weighing corner',
     calibratedDaysAgo: 200,
     dueInDays: 165,
-    minimumWeightG: null,
   },
   {
     lab: 'TEACH',
@@ -295,7 +295,6 @@ export const DEMO_BALANCES = [
     location: 'Teaching room, side bench',
     calibratedDaysAgo: 400,
     dueInDays: -35,
-    minimumWeightG: null,
   },
 ] as const;
 
