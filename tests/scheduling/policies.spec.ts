@@ -145,6 +145,7 @@ describe('recalibration policies', () => {
     // A due date on the certificate wins over the interval.
     expect(await dueOf(certified.id, 'instrument')).toMatchObject({ dueOn: '2027-06-01', intervalDays: null });
 
+    w.clock.advance(60_000); // the change log lists newest first
     const patch = await w.t.http
       .patch(`/v1/due-policies/${res.body.id}`)
       .set('authorization', `Bearer ${await w.as('manager')}`)
@@ -224,6 +225,7 @@ describe('recalibration policies', () => {
         },
       });
       at = new Date(at.getTime() + 86_400_000);
+      w.clock.advance(60_000); // each change is logged at its own instant (newest first)
       return c;
     };
     await calibrate('pass');
