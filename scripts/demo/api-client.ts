@@ -11,15 +11,19 @@ export interface Reply {
 }
 
 const SESSION_MS = 12 * 3_600_000;
+/** A session is used again while its last request is this recent (well inside the idle timeout). */
+const REUSE_MS = 20 * 60_000;
 
 /**
  * The demo's way into the service: real HTTP requests through Fastify's
  * inject, each signed in as a demo person with a session that starts at the
  * demo clock's time (as if they had just signed in), so the service applies
- * every rule as it would have that day.
+ * every rule as it would have that day. A person's session serves their next
+ * requests for a few minutes of demo time, as a signed-in person's would.
  */
 export class DemoApi {
   private requests = 0;
+  private readonly sessions = new Map<string, { token: string; lastUsed: number }>();
 
   constructor(
     private readonly app: NestFastifyApplication,
@@ -54,10 +58,16 @@ export class DemoApi {
     const personId = this.people.get(email);
     if (!personId) throw new Error(`no demo person ${email}`);
     const now = this.clock.now();
+    const open = this.sessions.get(email);
+    if (open && now.getTime() >= open.lastUsed && now.getTime() - open.lastUsed < REUSE_MS) {
+      open.lastUsed = now.getTime();
+      return open.token;
+    }
     const { token, hash } = newSessionToken();
     await this.prisma.session.create({
       data: { personId, tokenHash: hash, createdAt: now, lastSeenAt: now, expiresAt: new Date(now.getTime() + SESSION_MS) },
     });
+    this.sessions.set(email, { token, lastUsed: now.getTime() });
     return token;
   }
 }

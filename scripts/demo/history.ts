@@ -12,7 +12,7 @@ import { type DemoItems, loadItems } from './items';
 import { BALANCE_FAILURE, emailOf, HISTORY_DAYS, MANAGERS, planYear, type PlannedCalibration, USP41_DAYS } from './plan';
 import { DemoRandom } from './random';
 import { calibrationPoints, runUncertainties, weightReading } from './readings';
-import { DEMO_BALANCES, DEMO_INSTRUMENTS, DEMO_LABS, DEMO_WEIGHTS, type DemoLabCode } from './scenario';
+import { DEMO_BALANCES, DEMO_INSTRUMENTS, DEMO_WEIGHTS, type DemoLabCode } from './scenario';
 
 const DAY_MS = 86_400_000;
 const SEED = 20_260_301;
@@ -121,32 +121,41 @@ class DemoYear {
     return { calibrations: this.calibrations, checks: this.checks };
   }
 
-  /** A quick check of each balance most mornings, always before it is used for a calibration. */
+  /**
+   * A quick check of each balance most mornings, always before it is used for a calibration. The
+   * balances are checked at the same time by different people, so the requests go out together.
+   */
   private async morningChecks(day: number, today: readonly PlannedCalibration[], always: boolean): Promise<void> {
+    const checks: (() => Promise<void>)[] = [];
     for (const balance of DEMO_BALANCES) {
       const used = today.some((p) => this.items.balanceFor(p.vesselTag).tag === balance.tag);
       if (!used && !always && this.rnd.next() > 0.55) continue;
       if (!this.weightUsable(balance.lab, QUICK_CHECKS[balance.tag]?.weight ?? '', day)) continue;
-      this.at(day, 6, this.rnd.int(0, 40));
-      await this.quickCheck(day, balance.tag, 0);
+      checks.push(this.quickCheck(balance.tag, this.time(day, 6, this.rnd.int(0, 40)), 0));
     }
+    this.at(day, 6, 45);
+    await Promise.all(checks.map((send) => send()));
   }
 
-  private async quickCheck(day: number, balanceTag: string, offsetG: number): Promise<void> {
+  /** The request of a quick check, readings drawn now (so they do not depend on the order requests finish in). */
+  private quickCheck(balanceTag: string, performedAt: Date, offsetG: number): () => Promise<void> {
     const b = this.items.balance(balanceTag);
     const q = QUICK_CHECKS[balanceTag];
     if (!q) throw new Error(`no quick check for ${balanceTag}`);
     const w = this.items.weight(q.weight);
-    await this.api.send(this.analystOf(b.lab), 'POST', `/v1/balances/${b.id}/checks`, 201, {
+    const who = this.analystOf(b.lab);
+    const body = {
       kind: 'quick',
       referenceWeightId: w.id,
       readingsG: [weightReading(this.rnd, w.conventionalMassG, b.readabilityG, offsetG)],
       limitG: q.limitG,
-      performedAt: this.clock.now().toISOString(),
+      performedAt: performedAt.toISOString(),
       ...(offsetG !== 0 ? { notes: 'Reading off after the pan was knocked during cleaning.' } : {}),
-    });
-    this.checks += 1;
-    void day;
+    };
+    return async () => {
+      await this.api.send(who, 'POST', `/v1/balances/${b.id}/checks`, 201, body);
+      this.checks += 1;
+    };
   }
 
   private async usp41Check(day: number, balanceTag: string): Promise<void> {
@@ -174,7 +183,7 @@ class DemoYear {
   /** The afternoon check that fails: the balance goes into quarantine and the day's work is marked for review. */
   private async failingCheck(day: number): Promise<void> {
     this.at(day, BALANCE_FAILURE.hour, 30);
-    await this.quickCheck(day, BALANCE_FAILURE.balanceTag, BALANCE_FAILURE.offsetG);
+    await this.quickCheck(BALANCE_FAILURE.balanceTag, this.clock.now(), BALANCE_FAILURE.offsetG)();
   }
 
   private async calibrate(day: number, p: PlannedCalibration): Promise<void> {
@@ -280,12 +289,15 @@ class DemoYear {
   }
 
   private analystOf(lab: DemoLabCode): string {
-    const people = DEMO_LABS.find((l) => l.code === lab) ? this.items.analysts(lab) : [];
-    return emailOf(this.rnd.pick(people));
+    return emailOf(this.rnd.pick(this.items.analysts(lab)));
   }
 
   private at(day: number, hour: number, minute = 0): void {
-    this.clock.set(new Date(this.start.getTime() + day * DAY_MS + hour * 3_600_000 + minute * 60_000));
+    this.clock.set(this.time(day, hour, minute));
+  }
+
+  private time(day: number, hour: number, minute: number): Date {
+    return new Date(this.start.getTime() + day * DAY_MS + hour * 3_600_000 + minute * 60_000);
   }
 }
 

@@ -106,7 +106,10 @@ export const SCRIPTED: readonly PlannedCalibration[] = [
     vesselTag: 'DW-BUR-50-001',
     performer: 'lena.hartmann',
     biasOfLimit: 0.3,
-    ending: { kind: 'returned', note: 'The 25 mL point has a replicate far from the others; check the printout and correct it.' },
+    ending: {
+      kind: 'returned',
+      note: 'The air pressure entered is the weather service’s sea-level value; enter the barometer reading at the balance.',
+    },
   },
   { day: 362, hour: 10, lab: 'WW-LAB', vesselTag: 'WW-VF-100-001', performer: 'mei.lin', biasOfLimit: -0.2, ending: { kind: 'submitted' } },
   {
@@ -121,6 +124,9 @@ export const SCRIPTED: readonly PlannedCalibration[] = [
   { day: 363, hour: 11, lab: 'DW-CHEM', vesselTag: 'DW-VF-50-001', performer: 'yusuf.demir', biasOfLimit: 0.1, ending: { kind: 'draft' } },
   { day: 364, hour: 9, lab: 'WW-LAB', vesselTag: 'WW-BUR-50-003', performer: 'pablo.reyes', biasOfLimit: -0.1, ending: { kind: 'draft' } },
 ];
+
+/** Vessels whose whole year is in SCRIPTED: the two that fail (the others also have a routine year). */
+const SCRIPTED_ONLY = ['DW-VF-100-007', 'T-PIP-25-003'] as const;
 
 /** The WW-LAB balance fails its afternoon quick check on this day and passes the next morning. */
 export const BALANCE_FAILURE = { day: 235, hour: 13, balanceTag: 'BAL-03', offsetG: 0.012 } as const;
@@ -138,11 +144,11 @@ export interface PlannableVessel {
  * The routine year: each vessel a first calibration in the first months (the
  * lab's analysts in turn), personal ware also by a second analyst, and about
  * half of them again some six months later (the new factor supersedes the
- * first). Vessels of SCRIPTED get only their scripted runs.
+ * first). The vessels that fail get only their scripted runs.
  */
 export function planYear(vessels: readonly PlannableVessel[], seed: number): PlannedCalibration[] {
   const rnd = new DemoRandom(seed);
-  const scripted = new Set(SCRIPTED.map((s) => s.vesselTag));
+  const scripted = new Set<string>(SCRIPTED_ONLY);
   const plan: PlannedCalibration[] = [...SCRIPTED];
   const routine = (lab: DemoLabCode, vesselTag: string, performer: string, day: number): PlannedCalibration => ({
     day,

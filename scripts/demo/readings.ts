@@ -37,7 +37,7 @@ export function tareG(v: VesselUnderTest): number {
   const ml = Number(v.nominalMl);
   if (v.deliveryMode === 'deliver') return ml <= 5 ? 12 : ml <= 20 ? 28 : 45;
   if (v.kind === 'graduated-cylinder') return v.material === 'polypropylene' ? 0.3 * ml + 25 : 0.7 * ml + 35;
-  return 0.45 * ml + 25;
+  return 0.3 * ml + 25;
 }
 
 /** Whether a lab can weigh the vessel full on this balance (with 5 % headroom). */

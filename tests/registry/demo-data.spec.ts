@@ -19,7 +19,6 @@ const DAY_MS = 86_400_000;
 describe('npm run demo', () => {
   let t: TestApp;
   let output: string;
-  let seconds: number;
   const env = () => ({ PATH: process.env.PATH, DATABASE_URL: t.testDatabase.appUrl, DATABASE_MIGRATION_URL: t.testDatabase.url });
   const sql = <T>(text: string, ...values: unknown[]) => t.database.prisma.$queryRawUnsafe<T[]>(text, ...values);
   const tokenOf = async (email: string) => {
@@ -29,9 +28,7 @@ describe('npm run demo', () => {
 
   beforeAll(async () => {
     t = await startTestApp();
-    const started = Date.now();
     output = (await run(process.execPath, [SCRIPT], { env: env() })).stdout;
-    seconds = (Date.now() - started) / 1000;
   }, 240_000);
   afterAll(() => t.close());
 
@@ -40,7 +37,6 @@ describe('npm run demo', () => {
     expect(output).toMatch(/History of 365 days loaded through the API/);
     expect(await t.database.prisma.vessel.count()).toBe(DEMO_VESSELS.length);
     for (const p of DEMO_PEOPLE) expect(output).toContain(p.email);
-    console.log(`demo run: ${seconds.toFixed(1)} s; ${output.split('\n').find((l) => l.startsWith('History'))}`);
   });
 
   it('lets a demo manager sign in with the printed password and see only their lab', async () => {
@@ -174,7 +170,6 @@ describe('npm run demo', () => {
       const res = await t.http.get(`/v1/due?state=${state}&limit=200`).set(admin).expect(200);
       kinds.set(state, new Set(res.body.items.map((i: { subjectKind: string }) => i.subjectKind)));
     }
-    expect(kinds.get('current')).toEqual(expect.objectContaining({ size: expect.any(Number) }));
     expect([...(kinds.get('current') ?? [])]).toEqual(expect.arrayContaining(['vessel', 'factor']));
     expect([...(kinds.get('due-soon') ?? [])]).toEqual(expect.arrayContaining(['vessel']));
     expect([...(kinds.get('overdue') ?? [])]).toEqual(expect.arrayContaining(['vessel', 'factor', 'balance-calibration', 'instrument']));
