@@ -48,7 +48,13 @@ async function main(): Promise<void> {
       { timeout: 120_000 },
     );
     console.log(`Demo data loaded: ${counts}.`);
-    const history = await loadHistory(config, database, new Date());
+    const history = await loadHistory(config, database, new Date()).catch((err: unknown) => {
+      // The scenario is committed and each step of the history is its own transaction: say what is left.
+      throw new Error(
+        `the scenario is loaded but its history stopped part-way (${(err as Error).message}); ` +
+          'start again from an empty registry (a new DATA_DIR or database) to load the demo.',
+      );
+    });
     console.log(
       `History of ${HISTORY_DAYS} days loaded through the API: ${history.calibrations} calibrations, ` +
         `${history.checks} balance checks (${history.requests} requests, ${((Date.now() - started) / 1000).toFixed(1)} s).`,
