@@ -90,19 +90,27 @@ export class DueScheduler implements OnApplicationBootstrap, OnModuleDestroy {
     });
     const ctx: SystemContext = { actor: { kind: 'system' }, requestId: `scheduler-${randomUUID()}` };
     const results: LabPass[] = [];
+    const failures: unknown[] = [];
     for (const lab of labs) {
       const today = localDate(now, lab.timeZone);
-      results.push(
-        await this.prisma.$transaction(async (tx) => {
-          const [lock] = await tx.$queryRaw<{ claimed: boolean }[]>`
-            SELECT pg_try_advisory_xact_lock(${SCHEDULER_LOCK_CLASS}::int, hashtext(${lab.id})) AS claimed`;
-          if (!lock?.claimed) return { labId: lab.id, claimed: false, today, intervalChanges: 0, raised: 0 };
-          const intervalChanges = await this.intervals.review(tx, ctx, lab.id, now);
-          const raised = await this.raiser.raise(tx, ctx, lab.id, today, now);
-          return { labId: lab.id, claimed: true, today, intervalChanges, raised: raised.length };
-        }, TX),
-      );
+      try {
+        results.push(
+          await this.prisma.$transaction(async (tx) => {
+            const [lock] = await tx.$queryRaw<{ claimed: boolean }[]>`
+              SELECT pg_try_advisory_xact_lock(${SCHEDULER_LOCK_CLASS}::int, hashtext(${lab.id})) AS claimed`;
+            if (!lock?.claimed) return { labId: lab.id, claimed: false, today, intervalChanges: 0, raised: 0 };
+            const intervalChanges = await this.intervals.review(tx, ctx, lab.id, now);
+            const raised = await this.raiser.raise(tx, ctx, lab.id, today, now);
+            return { labId: lab.id, claimed: true, today, intervalChanges, raised: raised.length };
+          }, TX),
+        );
+      } catch (error) {
+        // One lab's failure (rolled back, retried next pass) does not hold up the others.
+        this.logger.error(`scheduler pass for lab ${lab.id} failed: ${(error as Error).message}`);
+        failures.push(error);
+      }
     }
+    if (failures.length > 0) throw new AggregateError(failures, `scheduler pass failed for ${failures.length} of ${labs.length} labs`);
     return results;
   }
 }
