@@ -1,5 +1,8 @@
+import { Client } from 'pg';
+
 import { APP_CONFIG, type AppConfig } from '../../apps/api/src/config/config.schema';
 import { NoticeFanout, type RaisedNotice } from '../../apps/api/src/notices/notice-fanout';
+import { SCHEDULER_LOCK_CLASS } from '../../apps/api/src/scheduler/due-scheduler';
 import { seedCheckWeight, seedFactor, seedPerson, seedVessel } from '../support/factories';
 import { anotherInstance, DAY_MS, day, noticesOf, schedulingWorld, type SchedulingWorld } from './support';
 
@@ -119,6 +122,27 @@ describe('the due-date scheduler', () => {
       jest.restoreAllMocks();
       await second.close();
     }
+  });
+
+  it('skips a lab another instance has claimed, and does its work on the next pass', async () => {
+    const weight = await seedCheckWeight(w.prisma, w.cast.lab.id, { certificateDue: day('2026-11-25') });
+    const other = new Client({ connectionString: w.t.testDatabase.url });
+    await other.connect();
+    try {
+      // Another instance in the middle of this lab's pass holds its lock.
+      await other.query('BEGIN');
+      await other.query('SELECT pg_advisory_xact_lock($1::int, hashtext($2))', [SCHEDULER_LOCK_CLASS, w.cast.lab.id]);
+      const passes = await w.scheduler.runPass();
+      expect(passes.find((p) => p.labId === w.cast.lab.id)).toMatchObject({ claimed: false, raised: 0 });
+      expect(passes.find((p) => p.labId === w.cast.otherLab.id)).toMatchObject({ claimed: true });
+      expect(await noticesOf(w.prisma, weight.id)).toEqual([]);
+      await other.query('COMMIT');
+    } finally {
+      await other.end();
+    }
+    const after = await w.scheduler.runPass();
+    expect(after.find((p) => p.labId === w.cast.lab.id)).toMatchObject({ claimed: true });
+    expect((await noticesOf(w.prisma, weight.id)).map((n) => n.eventKind)).toEqual(['overdue']);
   });
 
   it('is refused by the database when asked to raise a notice twice, or to change one', async () => {
