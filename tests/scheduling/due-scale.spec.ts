@@ -134,6 +134,29 @@ describe('due dates at 100,000 items', () => {
     expect(bulkMs).toBeLessThan(60_000);
   }, 120_000);
 
+  it('moves a lab’s due dates when its policy changes, in the same request', async () => {
+    const started = performance.now();
+    const res = await w.post('/v1/due-policies', 'admin', {
+      labId: labs[0],
+      subjectKind: 'vessel',
+      intervalDays: 180,
+      dueSoonDays: 14,
+      reason: 'Pipettes twice a year',
+    });
+    const ms = performance.now() - started;
+    expect(res.status).toBe(201);
+    const { rows } = await owner.query<{ n: string }>(`SELECT count(*) AS n FROM due_items WHERE lab_id = $1 AND subject_kind = 'vessel'`, [
+      labs[0],
+    ]);
+    const { rows: moved } = await owner.query<{ n: string }>(
+      `SELECT count(*) AS n FROM due_dates WHERE lab_id = $1 AND subject_kind = 'vessel' AND policy_id = $2 AND due_soon_on = due_on - 14`,
+      [labs[0], res.body.id],
+    );
+    expect(moved[0]?.n).toBe(rows[0]?.n);
+    console.log(`policy for ${rows[0]?.n} vessels of one lab set in ${Math.round(ms)} ms`);
+    expect(ms).toBeLessThan(20_000);
+  }, 60_000);
+
   it('raises the notices of a lab at this scale in one pass, and nothing on the next', async () => {
     const started = Date.now();
     const passes = await w.scheduler.runPass();
