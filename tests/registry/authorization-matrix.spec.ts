@@ -3,7 +3,7 @@ import { subscribe, unsubscribe } from 'node:diagnostics_channel';
 
 import { sha256 } from '../../apps/api/src/auth/tokens';
 import { EXAMPLES } from '../../apps/api/src/calculations/calculations.examples';
-import { ACCURACY_CLASSES, VESSEL_KINDS } from '../../apps/api/src/policies/due-policy.schemas';
+import { ACCURACY_CLASSES, VESSEL_KINDS } from '@registry/metrology';
 import { bearer, seedBalance, seedCredential, seedInstrument, seedPerson, seedReferenceWeight, seedVessel } from '../support/factories';
 import { startTestApp } from '../support/test-app';
 import { seedFailedDelivery, seedWebhook, TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
@@ -170,9 +170,21 @@ async function seedExport(w: World): Promise<string> {
   const at = new Date('2026-06-30T12:00:00Z');
   const e = await w.prisma.export.create({
     data: {
-      report: 'calibration-log', format: 'csv', requestedById: w.people.admin.id, allLabs: false, labIds: [w.labA],
-      periodFrom: new Date('2026-01-01T00:00:00Z'), periodTo: at, asOf: at, parameters: {}, state: 'completed',
-      startedAt: at, endedAt: at, rowCount: 0n, byteCount: 10n, sha256: new Uint8Array(randomBytes(32)),
+      report: 'calibration-log',
+      format: 'csv',
+      requestedById: w.people.admin.id,
+      allLabs: false,
+      labIds: [w.labA],
+      periodFrom: new Date('2026-01-01T00:00:00Z'),
+      periodTo: at,
+      asOf: at,
+      parameters: {},
+      state: 'completed',
+      startedAt: at,
+      endedAt: at,
+      rowCount: 0n,
+      byteCount: 10n,
+      sha256: new Uint8Array(randomBytes(32)),
     },
   });
   return e.id;

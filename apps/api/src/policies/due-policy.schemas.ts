@@ -1,3 +1,4 @@
+import { ACCURACY_CLASSES, type AccuracyClass, VESSEL_KINDS, type VesselKind } from '@registry/metrology';
 import { createZodDto } from 'nestjs-zod';
 import { z } from 'zod';
 
@@ -5,17 +6,6 @@ import { pageQuerySchema } from '../common/pagination';
 import { characterCount, isPlainText, plainTextOnly } from '../common/plain-text';
 import { SUBJECT_KINDS, subjectKindSchema } from '../due/due.schemas';
 
-export const VESSEL_KINDS = [
-  'volumetric-flask',
-  'one-mark-pipette',
-  'graduated-pipette',
-  'burette',
-  'graduated-cylinder',
-  'piston-pipette-fixed',
-  'piston-pipette-variable',
-  'other',
-] as const;
-export const ACCURACY_CLASSES = ['A', 'AS', 'B', 'none'] as const;
 /** Kinds whose interval is a lab setting (balanceCheckWindowDays, factorValidityDays); their policies set the lead time only. */
 export const LAB_SETTING_KINDS = ['balance-check', 'factor'] as const;
 
@@ -60,11 +50,11 @@ export const createPolicySchema = z
     labId: z.uuid({ error: 'must be a UUID' }),
     subjectKind: subjectKindSchema,
     vesselKind: z
-      .enum(VESSEL_KINDS, { error: `must be one of ${VESSEL_KINDS.join(', ')}` })
+      .enum(VESSEL_KINDS as [VesselKind, ...VesselKind[]], { error: `must be one of ${VESSEL_KINDS.join(', ')}` })
       .optional()
       .meta({ description: 'Vessels only; absent: every kind' }),
     accuracyClass: z
-      .enum(ACCURACY_CLASSES, { error: `must be one of ${ACCURACY_CLASSES.join(', ')}` })
+      .enum(ACCURACY_CLASSES as [AccuracyClass, ...AccuracyClass[]], { error: `must be one of ${ACCURACY_CLASSES.join(', ')}` })
       .optional()
       .meta({ description: 'Vessels only; absent: every class' }),
     intervalDays: intervalDays.optional().meta({ description: 'Required, except for balance-check and factor (the lab’s settings)' }),
@@ -112,8 +102,8 @@ export const policySchema = z.object({
   id: z.uuid(),
   labId: z.uuid(),
   subjectKind: z.enum(SUBJECT_KINDS),
-  vesselKind: z.enum(VESSEL_KINDS).nullable(),
-  accuracyClass: z.enum(ACCURACY_CLASSES).nullable(),
+  vesselKind: z.enum(VESSEL_KINDS as [VesselKind, ...VesselKind[]]).nullable(),
+  accuracyClass: z.enum(ACCURACY_CLASSES as [AccuracyClass, ...AccuracyClass[]]).nullable(),
   intervalDays: z.number().int().nullable().meta({ description: 'null for balance-check and factor: the lab’s settings apply' }),
   dueSoonDays: z.number().int(),
   adaptive: adaptiveSchema.extend({ since: z.iso.datetime() }).nullable(),
