@@ -82,10 +82,10 @@ export async function load(target: LoadTarget, connections: number, durationS: n
 }
 
 /**
- * How `npm start` and the Dockerfile run the service (two malloc arenas, an 8 MB young
- * generation), applied to every server a benchmark starts so the figures are production's.
+ * How `npm start` and the Dockerfile run the service (two malloc arenas), applied to every
+ * server a benchmark starts so the figures are production's.
  */
-export const RUNTIME = { nodeArgs: ['--max-semi-space-size=8'], env: { MALLOC_ARENA_MAX: '2' } } as const;
+export const RUNTIME = { nodeArgs: [] as string[], env: { MALLOC_ARENA_MAX: '2' } } as const;
 
 /**
  * A child Node process; its stderr is kept (last lines) for a failure message. Its stdout is
