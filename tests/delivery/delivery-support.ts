@@ -122,7 +122,7 @@ export async function seedWebhook(prisma: PrismaClient, labId: string, createdBy
   return prisma.webhook.create({
     data: {
       labId,
-      url: 'https://lims.waterworks.example/hooks/registry',
+      url: 'https://samples.waterworks.example/hooks/registry',
       description: 'Sample-management system',
       eventKinds: ['due-soon', 'overdue'],
       secretSealed: new Uint8Array(randomBytes(64)),

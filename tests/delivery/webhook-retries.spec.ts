@@ -36,7 +36,10 @@ describe('webhook delivery with retries', () => {
   afterAll(() => t.close());
 
   async function register(url: string, eventKinds = ['due-soon', 'overdue'], labId = cast.lab.id, token = cast.tokens.manager) {
-    const res = await t.http.post(`/v1/labs/${labId}/webhooks`).set(bearer(token)).send({ url, description: 'LIMS', eventKinds });
+    const res = await t.http
+      .post(`/v1/labs/${labId}/webhooks`)
+      .set(bearer(token))
+      .send({ url, description: 'Sample-management system', eventKinds });
     expect(res.status).toBe(201);
     return res.body as { id: string; secret: string };
   }

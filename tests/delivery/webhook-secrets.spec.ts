@@ -33,11 +33,15 @@ describe('webhook registration and secrets', () => {
     const created = await t.http
       .post(base())
       .set(bearer(cast.tokens.manager))
-      .send({ url: 'https://LIMS.waterworks.example:443/hooks/registry', description: 'Due dates into the LIMS', eventKinds: ['overdue'] });
+      .send({
+        url: 'https://SAMPLES.waterworks.example:443/hooks/registry',
+        description: 'Due dates into the sample-management system',
+        eventKinds: ['overdue'],
+      });
     expect(created.status).toBe(201);
     expect(created.body).toMatchObject({
       labId: cast.lab.id,
-      url: 'https://lims.waterworks.example/hooks/registry',
+      url: 'https://samples.waterworks.example/hooks/registry',
       enabled: true,
       version: 1,
     });
@@ -102,20 +106,20 @@ describe('webhook registration and secrets', () => {
       orderBy: { seq: 'asc' },
     });
     expect(audit.map((a) => a.action)).toEqual(['create', 'rotate-secret', 'update']);
-    expect(audit[2]!.oldValues).toMatchObject({ url: 'https://lims.waterworks.example/hooks/registry', eventKinds: ['overdue'] });
+    expect(audit[2]!.oldValues).toMatchObject({ url: 'https://samples.waterworks.example/hooks/registry', eventKinds: ['overdue'] });
   });
 
   it('refuses URLs that are not http(s), carry credentials, and unknown or repeated event kinds, naming the field', async () => {
     const cases: [unknown, string][] = [
       [{ url: 'ftp://files.waterworks.example/in', eventKinds: ['due-soon'] }, 'url'],
-      [{ url: 'https://registry:pw@lims.waterworks.example/hook', eventKinds: ['due-soon'] }, 'url'],
-      [{ url: 'lims.waterworks.example/hook', eventKinds: ['due-soon'] }, 'url'],
-      [{ url: `https://lims.waterworks.example/${'a'.repeat(2000)}`, eventKinds: ['due-soon'] }, 'url'],
-      [{ url: 'https://lims.waterworks.example/hook', eventKinds: ['due-later'] }, 'eventKinds.0'],
-      [{ url: 'https://lims.waterworks.example/hook', eventKinds: ['overdue', 'overdue'] }, 'eventKinds'],
-      [{ url: 'https://lims.waterworks.example/hook', eventKinds: [] }, 'eventKinds'],
-      [{ url: 'https://lims.waterworks.example/hook', eventKinds: ['overdue'], description: 'bell\u0007' }, 'description'],
-      [{ url: 'https://lims.waterworks.example/hook', eventKinds: ['overdue'], secret: 'rwh_mine' }, 'secret'],
+      [{ url: 'https://registry:pw@samples.waterworks.example/hook', eventKinds: ['due-soon'] }, 'url'],
+      [{ url: 'samples.waterworks.example/hook', eventKinds: ['due-soon'] }, 'url'],
+      [{ url: `https://samples.waterworks.example/${'a'.repeat(2000)}`, eventKinds: ['due-soon'] }, 'url'],
+      [{ url: 'https://samples.waterworks.example/hook', eventKinds: ['due-later'] }, 'eventKinds.0'],
+      [{ url: 'https://samples.waterworks.example/hook', eventKinds: ['overdue', 'overdue'] }, 'eventKinds'],
+      [{ url: 'https://samples.waterworks.example/hook', eventKinds: [] }, 'eventKinds'],
+      [{ url: 'https://samples.waterworks.example/hook', eventKinds: ['overdue'], description: 'bell\u0007' }, 'description'],
+      [{ url: 'https://samples.waterworks.example/hook', eventKinds: ['overdue'], secret: 'rwh_mine' }, 'secret'],
     ];
     for (const [body, field] of cases) {
       const res = await t.http
@@ -131,7 +135,7 @@ describe('webhook registration and secrets', () => {
     const created = await t.http
       .post(base())
       .set(bearer(cast.tokens.manager))
-      .send({ url: 'https://lims.waterworks.example/a', eventKinds: ['due-soon'] });
+      .send({ url: 'https://samples.waterworks.example/a', eventKinds: ['due-soon'] });
     const path = `${base()}/${created.body.id}`;
     expect((await t.http.patch(path).set(bearer(cast.tokens.manager)).send({ enabled: false })).status).toBe(428);
     expect((await t.http.patch(path).set(bearer(cast.tokens.manager)).set('if-match', '"v7"').send({ enabled: false })).status).toBe(412);
@@ -153,7 +157,7 @@ describe('webhook registration and secrets', () => {
       const res = await keyless.http
         .post(`/v1/labs/${c.lab.id}/webhooks`)
         .set(bearer(c.tokens.manager))
-        .send({ url: 'https://lims.waterworks.example/hook', eventKinds: ['due-soon'] });
+        .send({ url: 'https://samples.waterworks.example/hook', eventKinds: ['due-soon'] });
       expect(res.status).toBe(409);
       expect(res.body).toMatchObject({ code: 'webhooks-not-configured', type: '/problems/webhooks-not-configured' });
       expect(res.body.detail).toContain('WEBHOOK_SECRET_KEY');
@@ -219,7 +223,7 @@ describe('webhook registration and secrets', () => {
       );
       await refused(
         insertWebhook,
-        [cast.lab.id, 'https://lims.waterworks.example/x', ['due-later'], cast.people.admin.id],
+        [cast.lab.id, 'https://samples.waterworks.example/x', ['due-later'], cast.people.admin.id],
         /webhooks_event_kinds_check/,
       );
 

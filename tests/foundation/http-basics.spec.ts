@@ -38,8 +38,8 @@ describe('HTTP basics', () => {
   });
 
   it('honours a plain X-Request-Id and replaces an unsafe one', async () => {
-    const given = await t.http.get('/health/live').set('x-request-id', 'lims-batch-42.7').expect(200);
-    expect(given.headers['x-request-id']).toBe('lims-batch-42.7');
+    const given = await t.http.get('/health/live').set('x-request-id', 'samples-batch-42.7').expect(200);
+    expect(given.headers['x-request-id']).toBe('samples-batch-42.7');
     const unsafe = await t.http.get('/health/live').set('x-request-id', 'bad id\twith spaces').expect(200);
     expect(unsafe.headers['x-request-id']).toMatch(/^[0-9a-f-]{36}$/);
   });

@@ -276,7 +276,7 @@ const TABLE: readonly Row[] = [
   r('401 200 403 200 403 404 403 403 403 403 403 403 401 401', 'POST /v1/instruments/:instrumentId/out-of-tolerance', async (w) => ({
     path: `/v1/instruments/${(await seedInstrument(w.prisma, w.labA)).id}/out-of-tolerance`, body: { foundAt: new Date(Date.now() - 60_000).toISOString(), reason: 'Reads 0.4 K high at 20 °C' } })),
 
-  r('401 201 403 201 403 404 403 403 403 403 403 403 401 401', 'POST /v1/labs/:labId/webhooks', post((w) => `/v1/labs/${w.labA}/webhooks`, () => ({ url: 'https://lims.waterworks.example/hooks/registry', eventKinds: ['due-soon'] }))),
+  r('401 201 403 201 403 404 403 403 403 403 403 403 401 401', 'POST /v1/labs/:labId/webhooks', post((w) => `/v1/labs/${w.labA}/webhooks`, () => ({ url: 'https://samples.waterworks.example/hooks/registry', eventKinds: ['due-soon'] }))),
   r('401 200 200 200 403 404 403 403 403 403 403 403 401 401', 'GET /v1/labs/:labId/webhooks', at((w) => `/v1/labs/${w.labA}/webhooks`)),
   r('401 200 200 200 403 404 403 403 403 403 403 403 401 401', 'GET /v1/labs/:labId/webhooks/:webhookId', async (w) => ({
     path: `/v1/labs/${w.labA}/webhooks/${(await seedWebhook(w.prisma, w.labA, w.people.admin.id)).id}` })),

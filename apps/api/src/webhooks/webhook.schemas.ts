@@ -31,7 +31,7 @@ const url = z
     }
     return href;
   })
-  .meta({ description: 'Where deliveries are POSTed (http or https)', example: 'https://lims.waterworks.example/hooks/registry' });
+  .meta({ description: 'Where deliveries are POSTed (http or https)', example: 'https://samples.waterworks.example/hooks/registry' });
 const description = z
   .string()
   .trim()
@@ -52,8 +52,8 @@ export const createWebhookSchema = z
   .strictObject({ url, description: description.default(''), eventKinds, enabled: enabled.default(true) })
   .meta({
     example: {
-      url: 'https://lims.waterworks.example/hooks/registry',
-      description: 'Due dates into the LIMS',
+      url: 'https://samples.waterworks.example/hooks/registry',
+      description: 'Due dates into the sample-management system',
       eventKinds: ['due-soon', 'overdue'],
     },
   });
