@@ -147,8 +147,8 @@ export const BODY_ENDPOINTS: readonly BodyEndpoint[] = [
     route: 'POST /v1/labs/:labId/webhooks',
     schema: createWebhookSchema,
     seed: () => ({
-      url: 'https://lims.waterworks.example/hooks/registry',
-      description: 'Due dates into the LIMS',
+      url: 'https://samples.waterworks.example/hooks/registry',
+      description: 'Due dates into the sample-management system',
       eventKinds: ['due-soon'],
     }),
     path: (w) => `/v1/labs/${w.labA}/webhooks`,
