@@ -1,11 +1,14 @@
 import type { Db } from '../common/db';
 
+export type NoticeEventKind = 'due-soon' | 'overdue';
+export type NoticeSubjectKind = 'vessel' | 'balance-calibration' | 'balance-check' | 'reference-weight' | 'instrument' | 'factor';
+
 /** A notice the scheduler has just inserted (it did not exist before this transaction). */
 export interface RaisedNotice {
   readonly id: string;
   readonly labId: string;
-  readonly eventKind: 'due-soon' | 'overdue';
-  readonly subjectKind: 'vessel' | 'balance-calibration' | 'balance-check' | 'reference-weight' | 'instrument' | 'factor';
+  readonly eventKind: NoticeEventKind;
+  readonly subjectKind: NoticeSubjectKind;
   readonly subjectId: string;
   readonly subjectLabel: string;
   /** The factor's holder; null for items. */

@@ -2,13 +2,14 @@ import { Injectable } from '@nestjs/common';
 import { Prisma } from '@registry/data';
 
 import type { Db } from '../common/db';
+import type { NoticeEventKind, NoticeSubjectKind } from './notice-fanout';
 import type { NoticeListQuery } from './notice.schemas';
 
 export interface NoticeRow {
   readonly id: string;
   readonly labId: string;
-  readonly eventKind: 'due-soon' | 'overdue';
-  readonly subjectKind: 'vessel' | 'balance-calibration' | 'balance-check' | 'reference-weight' | 'instrument' | 'factor';
+  readonly eventKind: NoticeEventKind;
+  readonly subjectKind: NoticeSubjectKind;
   readonly subjectId: string;
   readonly subjectLabel: string;
   readonly personId: string | null;
