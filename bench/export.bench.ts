@@ -22,19 +22,19 @@
  * needs CREATEDB).
  */
 import { execFileSync } from 'node:child_process';
-import { randomBytes } from 'node:crypto';
 import { existsSync, mkdirSync, readFileSync, renameSync, writeFileSync } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import http from 'node:http';
 import os from 'node:os';
 import path from 'node:path';
 
-import { type DatabaseServer, freePort, openDatabaseServer } from '@registry/data';
+import { freePort } from '@registry/data';
 import { Client } from 'pg';
 import { to as copyTo } from 'pg-copy-streams';
 
 import { newSessionToken } from '../apps/api/src/auth/tokens';
 import { CALIBRATION_LOG_SQL } from '../apps/api/src/exports/report-sql';
+import { openBenchDatabase, repoRoot } from './support/bench-database';
 import { startProcess, stopProcess, waitForOk } from './support/factors-load';
 
 const int = (name: string, fallback: number) => {
@@ -46,36 +46,6 @@ const SETTINGS = { rows: int('EXPORT_BENCH_ROWS', 1_000_000), rounds: int('EXPOR
 const TARGET_RATIO = 0.3;
 const TARGET_RSS_MB = 256;
 const PERIOD = { from: '2020-01-01T00:00:00.000Z', to: '2030-01-01T00:00:00.000Z', asOf: '2026-12-01T00:00:00.000Z' };
-
-function repoRoot(from: string): string {
-  let dir = path.resolve(from);
-  while (!existsSync(path.join(dir, 'package.json'))) {
-    const parent = path.dirname(dir);
-    if (parent === dir) throw new Error(`no package.json above ${from}`);
-    dir = parent;
-  }
-  return dir;
-}
-
-/** A fresh database: a new one on the DATABASE_URL server, or an embedded server in a temporary folder. */
-async function openBenchDatabase(tmp: string): Promise<{ server: DatabaseServer; close: () => Promise<void> }> {
-  const external = process.env.DATABASE_URL;
-  if (!external) {
-    const server = await openDatabaseServer({ dataDir: path.join(tmp, 'cluster') });
-    return { server, close: () => server.stop() };
-  }
-  const name = `registry_bench_${randomBytes(4).toString('hex')}`;
-  const admin = async (sql: string) => {
-    const c = new Client({ connectionString: process.env.DATABASE_MIGRATION_URL ?? external });
-    await c.connect();
-    await c.query(sql).finally(() => c.end());
-  };
-  await admin(`CREATE DATABASE ${name}`);
-  const url = new URL(process.env.DATABASE_MIGRATION_URL ?? external);
-  url.pathname = `/${name}`;
-  const server = await openDatabaseServer({ url: url.toString(), dataDir: tmp });
-  return { server, close: () => admin(`DROP DATABASE IF EXISTS ${name} WITH (FORCE)`) };
-}
 
 /** One lab, its analysts, vessels, a balance and a thermometer, an administrator with a session; calibrations by SQL. */
 async function seed(ownerUrl: string, rows: number): Promise<{ token: string; labId: string }> {

@@ -24,17 +24,16 @@
  * request much less. The load average at start and end is recorded for the same reason.
  */
 import { execFileSync } from 'node:child_process';
-import { randomBytes } from 'node:crypto';
 import { existsSync, mkdirSync, renameSync, writeFileSync } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import os from 'node:os';
 import path from 'node:path';
 
-import { type DatabaseServer, freePort, openDatabaseServer } from '@registry/data';
-import { Client } from 'pg';
+import { freePort } from '@registry/data';
 
 import { FactorLookupRepository } from '../apps/api/src/factors/factor-lookup.repository';
 import { type LoadResult, type LoadTarget, load, portFromStdout, startProcess, stopProcess, waitForOk } from './support/factors-load';
+import { openBenchDatabase, repoRoot } from './support/bench-database';
 import { type Pair, lookupPlan, seedFactorBench } from './support/factors-seed';
 
 const int = (name: string, fallback: number) => {
@@ -58,36 +57,6 @@ function median(rs: readonly LoadResult[]): LoadResult {
   return sorted[Math.floor((sorted.length - 1) / 2)] as LoadResult;
 }
 const TARGET_P99_MS = 25;
-
-function repoRoot(from: string): string {
-  let dir = path.resolve(from);
-  while (!existsSync(path.join(dir, 'package.json'))) {
-    const parent = path.dirname(dir);
-    if (parent === dir) throw new Error(`no package.json above ${from}`);
-    dir = parent;
-  }
-  return dir;
-}
-
-/** A fresh database: a new one on the DATABASE_URL server, or an embedded server in a temporary folder. */
-async function openBenchDatabase(tmp: string): Promise<{ server: DatabaseServer; close: () => Promise<void> }> {
-  const external = process.env.DATABASE_URL;
-  if (!external) {
-    const server = await openDatabaseServer({ dataDir: path.join(tmp, 'cluster') });
-    return { server, close: () => server.stop() };
-  }
-  const name = `registry_bench_${randomBytes(4).toString('hex')}`;
-  const admin = async (sql: string) => {
-    const c = new Client({ connectionString: process.env.DATABASE_MIGRATION_URL ?? external });
-    await c.connect();
-    await c.query(sql).finally(() => c.end());
-  };
-  await admin(`CREATE DATABASE ${name}`);
-  const url = new URL(process.env.DATABASE_MIGRATION_URL ?? external);
-  url.pathname = `/${name}`;
-  const server = await openDatabaseServer({ url: url.toString(), dataDir: tmp });
-  return { server, close: () => admin(`DROP DATABASE IF EXISTS ${name} WITH (FORCE)`) };
-}
 
 const pick = (pairs: readonly Pair[]): Pair => pairs[Math.floor(Math.random() * pairs.length)] as Pair;
 const qs = (params: Record<string, string>) => new URLSearchParams(params).toString();
