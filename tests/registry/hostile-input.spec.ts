@@ -86,25 +86,21 @@ describe('hostile input', () => {
     return res;
   }
 
+  /** A body sent to a body endpoint as its seed caller (with a fresh If-Match where it needs one), judged. */
+  async function judgedBody(endpoint: (typeof BODY_ENDPOINTS)[number], text: string, accepted: boolean): Promise<Response> {
+    const [method] = endpoint.route.split(' ') as [string];
+    const ifMatch = endpoint.ifMatch ? { ifMatch: await endpoint.ifMatch(w) } : {};
+    return judged({ method, url: endpoint.path(w), text, token: endpoint.as(w), ...ifMatch }, accepted, endpoint.refusalWrites);
+  }
+
   describe('request bodies', () => {
     it.each(BODY_ENDPOINTS.map((e) => [e.route, e] as const))('%s', async (_route, endpoint) => {
-      const [method] = endpoint.route.split(' ') as [string];
       await fc.assert(
         fc.asyncProperty(hostileBody(endpoint.schema, endpoint.seed(w)), async (body) => {
           const text = toJsonText(body);
           const parsed = parsedAsServer(text);
           const accepted = parsed.ok && endpoint.schema.safeParse(parsed.value).success;
-          await judged(
-            {
-              method,
-              url: endpoint.path(w),
-              text,
-              token: endpoint.as(w),
-              ...(endpoint.ifMatch ? { ifMatch: await endpoint.ifMatch(w) } : {}),
-            },
-            accepted,
-            endpoint.refusalWrites,
-          );
+          await judgedBody(endpoint, text, accepted);
         }),
         { numRuns: RUNS },
       );
@@ -117,24 +113,13 @@ describe('hostile input', () => {
     it.each(BODY_ENDPOINTS.map((e) => [e.route, e] as const))(
       '%s answers control characters and lone surrogates in each text member without a server error',
       async (_r, endpoint) => {
-        const [method] = endpoint.route.split(' ') as [string];
         const seed = endpoint.seed(w) as Record<string, unknown>;
         const members = new Set([...Object.keys(seed).filter((k) => typeof seed[k] === 'string'), ...textMembers(endpoint.schema)]);
         for (const member of members) {
           for (const value of ['a\u0000b', 'tab\u0007bell', 'x\ud800y']) {
             const text = toJsonText({ ...(seed as Record<string, string>), [member]: value });
             const accepted = endpoint.schema.safeParse(JSON.parse(text)).success;
-            await judged(
-              {
-                method,
-                url: endpoint.path(w),
-                text,
-                token: endpoint.as(w),
-                ...(endpoint.ifMatch ? { ifMatch: await endpoint.ifMatch(w) } : {}),
-              },
-              accepted,
-              endpoint.refusalWrites,
-            );
+            await judgedBody(endpoint, text, accepted);
           }
         }
       },
@@ -157,13 +142,11 @@ describe('hostile input', () => {
     it.each(BODY_ENDPOINTS.filter((e) => timeMembers(e.schema).length > 0).map((e) => [e.route, e] as const))(
       '%s answers dates at the edges of the calendar without a server error',
       async (_r, endpoint) => {
-        const [method] = endpoint.route.split(' ') as [string];
         for (const { member, format } of timeMembers(endpoint.schema)) {
           for (const value of CALENDAR_EDGES[format]) {
             const text = toJsonText({ ...(endpoint.seed(w) as Record<string, Hostile>), [member]: value });
             const accepted = endpoint.schema.safeParse(JSON.parse(text)).success;
-            const ifMatch = endpoint.ifMatch ? { ifMatch: await endpoint.ifMatch(w) } : {};
-            await judged({ method, url: endpoint.path(w), text, token: endpoint.as(w), ...ifMatch }, accepted, endpoint.refusalWrites);
+            await judgedBody(endpoint, text, accepted);
           }
         }
       },
