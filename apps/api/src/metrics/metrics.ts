@@ -18,6 +18,18 @@ export class HttpMetrics {
     buckets: [0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5],
     registers: [this.registry],
   });
+  private readonly schedulerPasses = new Histogram({
+    name: 'scheduler_pass_duration_seconds',
+    help: 'Due-date scheduler passes over every lab, by outcome',
+    labelNames: ['outcome'] as const,
+    buckets: [0.05, 0.1, 0.25, 0.5, 1, 2, 5, 10, 30, 60, 120],
+    registers: [this.registry],
+  });
+  private readonly noticesRaised = new Counter({
+    name: 'scheduler_notices_raised_total',
+    help: 'Due notices raised by this instance',
+    registers: [this.registry],
+  });
 
   constructor(pool: Pool) {
     collectDefaultMetrics({ register: this.registry });
@@ -34,6 +46,12 @@ export class HttpMetrics {
     gauge('db_pool_connections_total', 'Connections open in the database pool', () => pool.totalCount);
     gauge('db_pool_connections_idle', 'Idle connections in the database pool', () => pool.idleCount);
     gauge('db_pool_requests_waiting', 'Queries waiting for a pooled connection', () => pool.waitingCount);
+  }
+
+  /** One scheduler pass: its duration and the notices it raised. */
+  observeSchedulerPass(seconds: number, outcome: 'ok' | 'failed', raised: number): void {
+    this.schedulerPasses.observe({ outcome }, seconds);
+    this.noticesRaised.inc(raised);
   }
 
   /** Times every request; labels use the route template, never the raw URL. */

@@ -6,6 +6,7 @@ import { PrismaClient } from '@registry/data';
 import type { SystemContext } from '../auth/actor';
 import { Clock } from '../common/clock';
 import { APP_CONFIG, type AppConfig } from '../config/config.schema';
+import { HttpMetrics } from '../metrics/metrics';
 import { localDate } from '../due/lab-calendar';
 import { IntervalReviewer } from './interval-reviewer';
 import { NoticeRaiser } from './notice-raiser';
@@ -46,6 +47,7 @@ export class DueScheduler implements OnApplicationBootstrap, OnModuleDestroy {
     @Inject(APP_CONFIG) private readonly config: AppConfig,
     private readonly intervals: IntervalReviewer,
     private readonly raiser: NoticeRaiser,
+    private readonly metrics: HttpMetrics,
   ) {}
 
   onApplicationBootstrap(): void {
@@ -72,11 +74,18 @@ export class DueScheduler implements OnApplicationBootstrap, OnModuleDestroy {
   }
 
   private async tick(): Promise<void> {
+    // A pass still running from the last tick is not waited on (or counted) again.
+    if (this.running) return;
+    const started = process.hrtime.bigint();
+    const seconds = () => Number(process.hrtime.bigint() - started) / 1e9;
     try {
       const passes = await this.runPass();
       const raised = passes.reduce((n, p) => n + p.raised, 0);
-      if (raised > 0) this.logger.log(`raised ${raised} notices`);
+      const elapsed = seconds();
+      this.metrics.observeSchedulerPass(elapsed, 'ok', raised);
+      this.logger.log(`pass over ${passes.length} labs in ${Math.round(elapsed * 1000)} ms: ${raised} notices raised`);
     } catch (error) {
+      this.metrics.observeSchedulerPass(seconds(), 'failed', 0);
       this.logger.error(`scheduler pass failed: ${(error as Error).message}`);
     }
   }
