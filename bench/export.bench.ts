@@ -22,7 +22,7 @@
  * needs CREATEDB).
  */
 import { execFileSync } from 'node:child_process';
-import { existsSync, mkdirSync, readFileSync, renameSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, renameSync, writeFileSync } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import http from 'node:http';
 import os from 'node:os';
@@ -35,7 +35,7 @@ import { to as copyTo } from 'pg-copy-streams';
 import { newSessionToken } from '../apps/api/src/auth/tokens';
 import { CALIBRATION_LOG_SQL } from '../apps/api/src/exports/report-sql';
 import { openBenchDatabase, repoRoot } from './support/bench-database';
-import { startProcess, stopProcess, waitForOk } from './support/factors-load';
+import { memoryOf, startProcess, stopProcess, waitForOk } from './support/factors-load';
 
 const int = (name: string, fallback: number) => {
   const v = Number(process.env[name] ?? fallback);
@@ -138,18 +138,6 @@ async function timeCopy(url: string, labId: string): Promise<Run> {
     return { rows: lines - 1, bytes, seconds, rowsPerSecond: (lines - 1) / seconds };
   } finally {
     await c.end();
-  }
-}
-
-/** RSS of a process now and its high-water mark, MB (Linux /proc; null elsewhere). */
-function memoryOf(pid: number | undefined): { rssMb: number; hwmMb: number } | null {
-  if (pid === undefined) return null;
-  try {
-    const status = readFileSync(`/proc/${pid}/status`, 'utf8');
-    const kb = (field: string) => Number(new RegExp(`^${field}:\\s+(\\d+) kB`, 'm').exec(status)?.[1] ?? NaN);
-    return { rssMb: kb('VmRSS') / 1024, hwmMb: kb('VmHWM') / 1024 };
-  } catch {
-    return null;
   }
 }
 

@@ -32,9 +32,10 @@ import path from 'node:path';
 import { freePort } from '@registry/data';
 
 import { FactorLookupRepository } from '../apps/api/src/factors/factor-lookup.repository';
-import { type LoadResult, type LoadTarget, load, portFromStdout, startProcess, stopProcess, waitForOk } from './support/factors-load';
+import { type LoadResult, load, portFromStdout, startProcess, stopProcess, waitForOk } from './support/factors-load';
 import { openBenchDatabase, repoRoot } from './support/bench-database';
 import { type Pair, lookupPlan, seedFactorBench } from './support/factors-seed';
+import { factorTargets } from './support/factor-targets';
 
 const int = (name: string, fallback: number) => {
   const v = Number(process.env[name] ?? fallback);
@@ -57,71 +58,6 @@ function median(rs: readonly LoadResult[]): LoadResult {
   return sorted[Math.floor((sorted.length - 1) / 2)] as LoadResult;
 }
 const TARGET_P99_MS = 25;
-
-const pick = (pairs: readonly Pair[]): Pair => pairs[Math.floor(Math.random() * pairs.length)] as Pair;
-const qs = (params: Record<string, string>) => new URLSearchParams(params).toString();
-
-function targets(
-  pairs: readonly Pair[],
-  ports: { service: number; bare: number },
-  key: string,
-): (LoadTarget & { server: 'bare' | 'service' })[] {
-  const service = `http://127.0.0.1:${ports.service}`;
-  const auth = { authorization: `Bearer ${key}` };
-  return [
-    {
-      id: 'bare-lookup',
-      server: 'bare',
-      description: 'bare Fastify + pg: the same lookup by person and vessel id, no auth or presentation',
-      url: `http://127.0.0.1:${ports.bare}`,
-      method: 'GET',
-      headers: {},
-      next: () => {
-        const p = pick(pairs);
-        return { path: `/bare/factors/current?${qs({ personId: p.personId, vesselId: p.vesselId })}` };
-      },
-    },
-    {
-      id: 'current-by-ids',
-      server: 'service',
-      description: 'GET /v1/factors/current?personId&vesselId (service credential)',
-      url: service,
-      method: 'GET',
-      headers: auth,
-      next: () => {
-        const p = pick(pairs);
-        return { path: `/v1/factors/current?${qs({ personId: p.personId, vesselId: p.vesselId })}` };
-      },
-    },
-    {
-      id: 'current-by-tag-email',
-      server: 'service',
-      description: 'GET /v1/factors/current?assetTag&email (service credential)',
-      url: service,
-      method: 'GET',
-      headers: auth,
-      next: () => {
-        const p = pick(pairs);
-        return { path: `/v1/factors/current?${qs({ assetTag: p.assetTag, email: p.email })}` };
-      },
-    },
-    {
-      id: 'corrections',
-      server: 'service',
-      description: 'POST /v1/factors/corrections by ids, one-mark ratio or curve interpolation (service credential)',
-      url: service,
-      method: 'POST',
-      headers: { ...auth, 'content-type': 'application/json' },
-      next: () => {
-        const p = pick(pairs);
-        return {
-          path: '/v1/factors/corrections',
-          body: JSON.stringify({ personId: p.personId, vesselId: p.vesselId, indicatedVolumeMl: p.indicatedVolumeMl }),
-        };
-      },
-    },
-  ];
-}
 
 const fmt = (n: number, digits = 1) => n.toLocaleString('en-US', { maximumFractionDigits: digits, minimumFractionDigits: digits });
 
@@ -206,7 +142,7 @@ async function main(): Promise<void> {
       throw new Error(`${err.message}\n${bare.stderr()}`);
     });
 
-    const loads = targets(seeded.pairs, { service: servicePort, bare: barePort }, seeded.credentialKey);
+    const loads = factorTargets(seeded.pairs, { service: servicePort, bare: barePort }, seeded.credentialKey);
     const pid = (t: (typeof loads)[number]) => (t.server === 'bare' ? bare.child.pid : service.child.pid);
     for (const target of loads) await load(target, SETTINGS.connections, SETTINGS.warmupS, pid(target));
     // Each endpoint runs `rounds` times, interleaved; the round with the median throughput is reported.

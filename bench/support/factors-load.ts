@@ -11,8 +11,8 @@ export interface LoadTarget {
   readonly url: string;
   readonly method: 'GET' | 'POST';
   readonly headers: Record<string, string>;
-  /** Path (and body) of the next request. */
-  readonly next: () => { path: string; body?: string };
+  /** Path (and body, and headers replacing `headers`) of the next request. */
+  readonly next: () => { path: string; body?: string; headers?: Record<string, string> };
 }
 
 export interface LoadResult {
@@ -36,6 +36,18 @@ function processCpuMs(pid: number | undefined): number | null {
     const fields = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1]?.split(' ') ?? [];
     const ticks = Number(fields[11]) + Number(fields[12]);
     return Number.isFinite(ticks) ? ticks * 10 : null;
+  } catch {
+    return null;
+  }
+}
+
+/** Resident set size of a process now and its high-water mark, MB (Linux /proc; null elsewhere). */
+export function memoryOf(pid: number | undefined): { rssMb: number; hwmMb: number } | null {
+  if (pid === undefined) return null;
+  try {
+    const status = readFileSync(`/proc/${pid}/status`, 'utf8');
+    const kb = (field: string) => Number(new RegExp(`^${field}:\\s+(\\d+) kB`, 'm').exec(status)?.[1] ?? NaN);
+    return { rssMb: kb('VmRSS') / 1024, hwmMb: kb('VmHWM') / 1024 };
   } catch {
     return null;
   }

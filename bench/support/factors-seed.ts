@@ -237,7 +237,7 @@ export async function seedFactorBench(ownerUrl: string, size: SeedSize): Promise
 }
 
 /** The plan PostgreSQL chooses for the lookup by ids on the seeded data, for the report. */
-export async function lookupPlan(ownerUrl: string, text: string, pair: Pair): Promise<string[]> {
+export async function lookupPlan(ownerUrl: string, text: string, pair: Pick<Pair, 'personId' | 'vesselId'>): Promise<string[]> {
   const db = new Client({ connectionString: ownerUrl });
   await db.connect();
   try {

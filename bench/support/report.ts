@@ -112,7 +112,7 @@ export const CASE_HEADER = ['case', 'ops/s', 'median µs', 'p99 µs', 'batch', '
  * replaces that day's file). Each file is written to a .tmp sibling first and renamed, so an
  * interrupted run never leaves half a file (bench/results/*.tmp is git-ignored).
  */
-export function writeResults(dir: string, name: string, report: RunReport): string[] {
+export function writeResults(dir: string, name: string, report: { readonly startedAt: string }): string[] {
   mkdirSync(dir, { recursive: true });
   const json = `${JSON.stringify(report, (_key, value: unknown) => (typeof value === 'number' && !Number.isInteger(value) ? round(value) : value), 2)}\n`;
   const day = report.startedAt.slice(0, 10);
