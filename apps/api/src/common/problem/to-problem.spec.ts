@@ -20,6 +20,27 @@ describe('toProblem', () => {
     expect(unexpected).toBe(false);
   });
 
+  it.each([
+    ['57P01', 'terminating connection due to administrator command'],
+    ['57P03', 'the database system is shutting down'],
+  ])('maps Prisma’s wrapper of a server going down (%s: %s) to 503', (code, message) => {
+    // The shape Prisma 7 throws (P2039) when the pg adapter reports a PostgreSQL error it has no kind for.
+    const err = Object.assign(new Error(`Database error. Code: \`${code}\`.`), {
+      code: 'P2039',
+      meta: { modelName: 'Session', driverAdapterError: { name: 'DriverAdapterError', cause: { kind: 'postgres', code, message } } },
+    });
+    const { problem, unexpected } = toProblem(err, {});
+    expect(problem).toMatchObject({ status: 503, code: 'service-unavailable' });
+    expect(unexpected).toBe(false);
+  });
+
+  it('maps the pg adapter’s lost-connection kinds to 503 and leaves its other kinds alone', () => {
+    const adapterError = (kind: string) => Object.assign(new Error('DriverAdapterError'), { cause: { kind } });
+    expect(toProblem(adapterError('ConnectionClosed'), {}).problem.status).toBe(503);
+    expect(toProblem(adapterError('DatabaseNotReachable'), {}).problem.status).toBe(503);
+    expect(toProblem(adapterError('UniqueConstraintViolation'), {}).problem.status).toBe(500);
+  });
+
   it('maps a domain error with its fields and extensions', () => {
     const err = new DomainError('conflict', 'Asset tag VF-0001 is taken.', [{ field: 'assetTag', reason: 'already used' }], {
       existingId: 'x',

@@ -142,6 +142,7 @@ const UNAVAILABLE_CODES = new Set([
   'ECONNRESET',
   'ETIMEDOUT',
   'EPIPE',
+  '53300',
   '57P01',
   '57P02',
   '57P03',
@@ -154,19 +155,28 @@ const UNAVAILABLE_CODES = new Set([
   'P1017',
 ]);
 
-/** Connection-level failures: the database went away, not a bug in the request. */
+/** What the Prisma pg adapter calls a lost or refused connection (its `cause.kind`). */
+const UNAVAILABLE_KINDS = new Set(['DatabaseNotReachable', 'ConnectionClosed', 'SocketTimeout', 'TooManyConnections']);
+
+const UNAVAILABLE_MESSAGE =
+  /(timeout exceeded when trying to connect|Connection terminated|connect ECONNREFUSED|Can't reach database server|is not queryable)/i;
+
+type ErrorLike = { code?: unknown; kind?: unknown; cause?: unknown; message?: unknown; meta?: { driverAdapterError?: unknown } };
+
+/**
+ * Connection-level failures: the database went away, not a bug in the request.
+ * Follows `cause` and, for Prisma's own errors (P2039 and friends), the driver
+ * adapter's error in `meta.driverAdapterError`, where the PostgreSQL code lives.
+ */
 export function isDatabaseUnavailable(error: unknown): boolean {
-  for (
-    let e = error as { code?: unknown; cause?: unknown; message?: unknown } | undefined, depth = 0;
-    e && depth < 5;
-    e = e.cause as typeof e, depth++
-  ) {
+  const pending: unknown[] = [error];
+  for (let seen = 0; pending.length > 0 && seen < 10; seen++) {
+    const e = pending.shift() as ErrorLike | null | undefined;
+    if (!e || typeof e !== 'object') continue;
     if (typeof e.code === 'string' && UNAVAILABLE_CODES.has(e.code)) return true;
-    if (
-      typeof e.message === 'string' &&
-      /(timeout exceeded when trying to connect|Connection terminated|connect ECONNREFUSED|Can't reach database server)/i.test(e.message)
-    )
-      return true;
+    if (typeof e.kind === 'string' && UNAVAILABLE_KINDS.has(e.kind)) return true;
+    if (typeof e.message === 'string' && UNAVAILABLE_MESSAGE.test(e.message)) return true;
+    pending.push(e.cause, e.meta?.driverAdapterError);
   }
   return false;
 }
