@@ -21,6 +21,7 @@ import { createApp } from '../../apps/api/src/app.factory';
 import { CredentialCache } from '../../apps/api/src/auth/credential-cache';
 import { parseConfig } from '../../apps/api/src/config/config.schema';
 import { createLogger } from '../../apps/api/src/logging';
+import { startReceiver, TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
 import { seedCast, seedCheckWeight, seedCredential, seedFactor, seedVessel } from '../support/factories';
 import { call, type CallOutcome } from './support/service-process';
 
@@ -57,11 +58,13 @@ describe('when the database goes away under load and comes back', () => {
   let database: Database;
   let app: NestFastifyApplication;
   let baseUrl: string;
+  let receiver: Awaited<ReturnType<typeof startReceiver>>;
   /** What the app logged at level error: a failure it took for a bug of its own would show here. */
   const errorLogs: Record<string, unknown>[] = [];
 
   beforeAll(async () => {
     folder = await mkdtemp(join(tmpdir(), 'registry-outage-'));
+    receiver = await startReceiver([200]);
     server = await openDatabaseServer({ dataDir: join(folder, 'cluster'), embeddedPort: await freePort() });
     owner = createDatabase({ databaseUrl: server.ownerUrl, poolMax: 2 });
     const config = parseConfig({
@@ -71,6 +74,7 @@ describe('when the database goes away under load and comes back', () => {
       SCHEDULER_ENABLED: 'true',
       SCHEDULER_PERIOD_SECONDS: '5',
       DELIVERY_WORKER_PERIOD_MS: '250',
+      WEBHOOK_SECRET_KEY: TEST_WEBHOOK_KEY,
     });
     // As main.ts builds it: the configured pool size and connect timeout, idle-connection errors only logged.
     database = createDatabase({
@@ -96,6 +100,7 @@ describe('when the database goes away under load and comes back', () => {
     await database?.close();
     await owner?.close();
     await (restarted ?? server.embedded)?.stop();
+    await receiver?.close();
     await rm(folder, { recursive: true, force: true });
   });
 
@@ -109,6 +114,9 @@ describe('when the database goes away under load and comes back', () => {
       const { key } = await seedCredential(prisma, cast.people.admin.id, ['factors:read']);
       const manager = { authorization: `Bearer ${cast.tokens.manager}` };
       const service = { authorization: `Bearer ${key}` };
+      // A webhook for overdue notices: the delivery worker must still send after the outage.
+      const hook = await call(baseUrl, 'POST', `/v1/labs/${cast.lab.id}/webhooks`, manager, { url: receiver.url, eventKinds: ['overdue'] });
+      expect(hook.ok && hook.status).toBe(201);
 
       const outcomes: Outcome[] = [];
       const state = { phase: 'up' as Outcome['phase'], stop: false };
@@ -259,17 +267,18 @@ describe('when the database goes away under load and comes back', () => {
       );
       expect(lookup.ok && lookup.body.factorId).toBe(factor.id);
 
-      // The background work carries on by itself: the scheduler's own timer raises a notice
-      // for an item that fell due after the outage, and the credential listener is back.
+      // The background work carries on by itself: the scheduler's own timer raises a notice for an
+      // item that fell due after the outage, the delivery worker sends it, and the credential listener is back.
       const weight = await seedCheckWeight(prisma, cast.lab.id, { certificateDue: new Date('2020-01-01T00:00:00Z') });
       const cache = app.get(CredentialCache);
       const deadline = Date.now() + 15_000;
+      const sent = () => receiver.received.filter((r) => r.body.includes(weight.id)).length;
       let notices = 0;
-      while (Date.now() < deadline && (notices === 0 || !cache.active)) {
+      while (Date.now() < deadline && (notices === 0 || sent() === 0 || !cache.active)) {
         await new Promise((r) => setTimeout(r, 250));
         notices = await prisma.notice.count({ where: { subjectId: weight.id } });
       }
-      expect({ notices, listening: cache.active }).toEqual({ notices: 1, listening: true });
+      expect({ notices, delivered: sent(), listening: cache.active }).toEqual({ notices: 1, delivered: 1, listening: true });
     },
     LONG ? 300_000 : 60_000,
   );
