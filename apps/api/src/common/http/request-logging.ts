@@ -13,7 +13,8 @@ export class RequestLogController extends LogController {
   }
 
   override incomingRequest(request: FastifyRequest): void {
-    if (!this.isLogDisabled(request)) request.log.debug({ method: request.method, url: request.url }, 'request received');
+    // The path only: a query string may carry a secret (a calendar feed's token is in its URL).
+    if (!this.isLogDisabled(request)) request.log.debug({ method: request.method, path: request.url.split('?')[0] }, 'request received');
   }
 
   override requestCompleted(error: Error | null | undefined, request: FastifyRequest, reply: FastifyReply): void {
