@@ -13,6 +13,7 @@ import { sendProblem } from './common/problem/problem.filter';
 import { RequestLogController } from './common/http/request-logging';
 import type { AppConfig } from './config/config.schema';
 import { buildOpenApiDocument, mountDocs } from './docs/openapi';
+import { applyIdempotencyKeys } from './idempotency/idempotency-routes';
 import { registerCsvBody } from './inventory/csv-body';
 import { PinoNestLogger } from './logging';
 import { HttpMetrics } from './metrics/metrics';
@@ -45,8 +46,10 @@ export async function createApp({ config, database, logger, clock }: CreateAppOp
     clientErrorHandler: answerClientError,
   });
   const metrics = new HttpMetrics(database.pool);
+  const root = AppModule.register({ config, database, metrics, ...(clock ? { clock } : {}) });
+  applyIdempotencyKeys(root);
   const app = await NestFactory.create<NestFastifyApplication>(
-    AppModule.register({ config, database, metrics, ...(clock ? { clock } : {}) }),
+    root,
     adapter,
     {
       logger: new PinoNestLogger(logger),

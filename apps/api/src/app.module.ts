@@ -24,6 +24,9 @@ import { ProblemFilter } from './common/problem/problem.filter';
 import { ProblemTypesController } from './common/problem/problem-types.controller';
 import { RegistryValidationPipe } from './common/validation';
 import { HealthController } from './health/health.controller';
+import { withAmbientTransactions } from './idempotency/ambient-transaction';
+import { IdempotencyRepository } from './idempotency/idempotency.repository';
+import { IdempotencyService } from './idempotency/idempotency.service';
 import { ImpactModule } from './impact/impact.module';
 import { InventoryModule } from './inventory/inventory.module';
 import { LabsModule } from './labs/labs.module';
@@ -52,13 +55,16 @@ export class AppModule {
   static register(deps: AppDependencies): DynamicModule {
     const infrastructure = [
       { provide: APP_CONFIG, useValue: deps.config },
-      { provide: PrismaClient, useValue: deps.database.prisma },
+      // Services' Prisma calls join a keyed write's transaction (see idempotency/ambient-transaction.ts).
+      { provide: PrismaClient, useValue: withAmbientTransactions(deps.database.prisma) },
       { provide: Pool, useValue: deps.database.pool },
       { provide: HttpMetrics, useValue: deps.metrics },
       { provide: Clock, useValue: deps.clock ?? new SystemClock() },
       { provide: CredentialCache, useClass: CredentialCache },
       { provide: Authenticator, useClass: Authenticator },
       { provide: AuditWriter, useClass: AuditWriter },
+      { provide: IdempotencyRepository, useClass: IdempotencyRepository },
+      { provide: IdempotencyService, useClass: IdempotencyService },
     ];
     return {
       module: AppModule,

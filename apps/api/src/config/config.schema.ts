@@ -72,6 +72,9 @@ export const configSchema = z.object({
   DELIVERY_RETRY_BASE_MS: positiveInt.max(86_400_000).default(60_000),
   DELIVERY_RETRY_MAX_MS: positiveInt.max(7 * 86_400_000).default(6 * 3_600_000),
   DELIVERY_TIMEOUT_MS: positiveInt.max(120_000).default(10_000),
+  // Idempotency-Key on writes: how long a key's answer is kept, and how long a request waits for another with the same key.
+  IDEMPOTENCY_KEY_TTL_HOURS: positiveInt.max(24 * 30).default(24),
+  IDEMPOTENCY_WAIT_SECONDS: positiveInt.max(50).default(10),
 });
 
 export type EnvInput = z.input<typeof configSchema>;
@@ -109,6 +112,8 @@ export interface AppConfig {
   /** The due-date scheduler: whether this instance runs passes on its own, and how often. */
   readonly scheduler: { readonly enabled: boolean; readonly periodMs: number };
   readonly delivery: DeliveryConfig;
+  /** Idempotency keys: lifetime of a key's answer, and how long a request waits for another with the same key. */
+  readonly idempotency: { readonly ttlMs: number; readonly waitMs: number };
 }
 
 /** Notice delivery: the worker, its retries, and the channels (each off when not configured). */
@@ -179,6 +184,7 @@ export function parseConfig(source: Record<string, string | undefined>): AppConf
       webhookSecretKey: e.WEBHOOK_SECRET_KEY ?? null,
       smtp: e.SMTP_URL && e.MAIL_FROM ? { url: e.SMTP_URL, from: e.MAIL_FROM } : null,
     },
+    idempotency: { ttlMs: e.IDEMPOTENCY_KEY_TTL_HOURS * 3_600_000, waitMs: e.IDEMPOTENCY_WAIT_SECONDS * 1000 },
   };
 }
 

@@ -51,6 +51,17 @@ export const PROBLEM_CATALOG = {
     title: 'The resource has changed',
     description: 'The If-Match version is stale; read the resource again and retry.',
   },
+  'idempotency-key-in-use': {
+    status: 409,
+    title: 'A request with this Idempotency-Key is still running',
+    description:
+      'Another request of yours with the same Idempotency-Key has not finished yet; retry after the Retry-After seconds to get its response.',
+  },
+  'idempotency-key-reused': {
+    status: 422,
+    title: 'The Idempotency-Key was used for another request',
+    description: 'You sent this Idempotency-Key before with another method, path or body; use a new key for a new request.',
+  },
   'request-timeout': {
     status: 408,
     title: 'Request not completed in time',
