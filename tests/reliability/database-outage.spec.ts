@@ -173,6 +173,9 @@ describe('when the database goes away under load and comes back', () => {
       });
 
       await new Promise((r) => setTimeout(r, PHASE_MS));
+      // A connection checked out of the pool and idle between statements when the server goes (as an open
+      // transaction or a paused export holds one): its error must not go unhandled and take the process down.
+      const held = await database.pool.connect();
       state.phase = 'down';
       const stopAt = Date.now();
       await server.embedded!.stop();
@@ -185,6 +188,9 @@ describe('when the database goes away under load and comes back', () => {
         probes.push({ ready, live: outcomes.at(-1) });
         await new Promise((r) => setTimeout(r, 250));
       }
+
+      await expect(held.query('SELECT 1')).rejects.toThrow();
+      held.release(true);
 
       restarted = await startEmbeddedPostgres({ dataDir: join(folder, 'cluster'), database: 'registry', port: server.embedded!.port });
       const backSince = Date.now();

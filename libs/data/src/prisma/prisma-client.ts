@@ -31,8 +31,12 @@ export function createDatabase(options: DatabaseOptions): Database {
     statement_timeout: 30_000,
     application_name: 'glassware-registry',
   });
-  // An idle client losing its server must not crash the process.
-  pool.on('error', (err) => options.onPoolError?.(err));
+  // A client losing its server must not crash the process. pg-pool listens on a client only while it is idle
+  // (and then re-emits on the pool); one checked out and between statements (an open transaction, a paused
+  // export) emits on itself. So every client gets a listener of its own, which reports both cases once; the
+  // holder gets the error from its next statement (a 503), and the pool discards the client on release.
+  pool.on('error', () => undefined);
+  pool.on('connect', (client) => client.on('error', (err) => options.onPoolError?.(err)));
   const prisma = new PrismaClient({ adapter: new PrismaPg(pool) });
   return {
     prisma,
