@@ -242,7 +242,11 @@ function paths(v: unknown, prefix: Path = []): { members: Path[]; objects: Path[
 function setAt(root: Hostile, path: Path, f: (holder: Record<string | number, Hostile>, key: string | number) => void): Hostile {
   const copy = structuredCloneKeepingRaw(root);
   let holder: Hostile = copy;
-  for (const k of path.slice(0, -1)) holder = (holder as Record<string | number, Hostile>)[k] ?? null;
+  for (const k of path.slice(0, -1)) {
+    // An earlier mutation may have replaced or removed a member on the way: then there is nothing to change.
+    if (holder === null || typeof holder !== 'object' || holder instanceof Raw || holder instanceof Big) return copy;
+    holder = (holder as Record<string | number, Hostile>)[k] ?? null;
+  }
   if (holder !== null && typeof holder === 'object' && !(holder instanceof Raw) && !(holder instanceof Big)) {
     f(holder as Record<string | number, Hostile>, path[path.length - 1] as string | number);
   }
