@@ -25,6 +25,11 @@ import { type Caller, CALLERS, buildWorld, fresh, NEW_PASSWORD, PASSWORD, type W
  *   exp   a session past its expiry         rev   a signed-out session
  * Path parameters name objects of lab A. 404: an object of a lab the caller
  * cannot read; 403: allowed to see it, not to do this.
+ *
+ * More callers that must get 401 everywhere (idle sessions, disabled people,
+ * revoked or forged keys, malformed tokens), another person's factor by every
+ * identifier form, and oversized or malformed requests on every documented
+ * route: tests/security/access-edge-cases.spec.ts.
  */
 
 interface Request {
