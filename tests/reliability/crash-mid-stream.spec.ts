@@ -110,7 +110,6 @@ describe('a service killed with SIGKILL in the middle of a stream of writes', ()
       const acknowledged = sent.filter((s) => s.acknowledged);
       expect(acknowledged.filter((s) => s.kind === 'approve').length).toBeGreaterThan(0);
       expect(sent.filter((s) => !s.acknowledged).length).toBeGreaterThan(0);
-      console.log(`crash rounds ${JSON.stringify(rounds)}; acknowledged ${acknowledged.length} of ${sent.length}`);
 
       const q = async <T>(sql: string, params: unknown[] = []) => (await owner.pool.query(sql, params)).rows as T[];
       const audit = await q<{
@@ -147,7 +146,12 @@ describe('a service killed with SIGKILL in the middle of a stream of writes', ()
         if (s.kind === 'approve') expect(factors.find((f) => f.calibration_id === s.entityId)?.id).toBe(s.factorId);
       }
       // A request cut off by the kill left either its whole write (with its audit entry) or nothing.
-      for (const s of sent.filter((x) => !x.acknowledged)) expect(entriesOf(s.requestId).length).toBeLessThanOrEqual(1);
+      const cutOff = sent.filter((x) => !x.acknowledged);
+      for (const s of cutOff) expect(entriesOf(s.requestId).length).toBeLessThanOrEqual(1);
+      console.log(
+        `crash rounds ${JSON.stringify(rounds)}; acknowledged ${acknowledged.length} of ${sent.length}; ` +
+          `of the ${cutOff.length} cut off, ${cutOff.filter((s) => entriesOf(s.requestId).length === 1).length} committed before the kill`,
+      );
 
       // No half-writes anywhere: each calibration has its creation entry and its replicates;
       // each submitted one its results and submission entry; each approved one its reviewer,
