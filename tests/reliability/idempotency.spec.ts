@@ -4,6 +4,7 @@ import { Client } from 'pg';
 
 import { ManualClock } from '../../apps/api/src/common/clock';
 import { requestFingerprint } from '../../apps/api/src/idempotency/idempotency-key';
+import { type CalibrationWorld, calibrationsAs, calibrationWorld, createAndSubmit, pipetteRun } from '../calibrations/helpers';
 import { bearer, seedCast, seedPerson, seedVessel, sessionFor } from '../support/factories';
 import { startTestApp, type TestApp } from '../support/test-app';
 
@@ -38,9 +39,11 @@ describe('Idempotency-Key on writes', () => {
   const vesselsTagged = async (assetTag: string) => (await t.database.prisma.vessel.findMany({ where: { assetTag } })).map((v) => v.id);
   const auditEntries = (entityId: string, action: string) => t.database.prisma.auditEntry.count({ where: { entityId, action } });
 
+  let w: CalibrationWorld;
   beforeAll(async () => {
     t = await startTestApp({}, { clock });
-    cast = await seedCast(t.database.prisma);
+    w = await calibrationWorld(t);
+    cast = w.cast;
   });
   afterAll(() => t.close());
 
@@ -74,6 +77,29 @@ describe('Idempotency-Key on writes', () => {
     expect(await auditEntries(id as string, 'create')).toBe(1);
     const keys = await t.database.prisma.idempotencyKey.count({ where: { key } });
     expect(keys).toBe(1);
+  });
+
+  it('runs ten approvals of one calibration sent at once with one key exactly once: one factor, one audit entry', async () => {
+    const analyst = calibrationsAs(t, cast.tokens.analyst);
+    const vessel = await seedVessel(t.database.prisma, cast.lab.id);
+    const submitted = await createAndSubmit(analyst, pipetteRun(w, ['24.9400', '24.9450', '24.9500'], { vesselId: vessel.id }));
+    const key = randomUUID();
+    const answers = await Promise.all(
+      Array.from({ length: 10 }, () =>
+        t.http
+          .post(`/v1/calibrations/${submitted.id}/approve`)
+          .set(bearer(cast.tokens.manager))
+          .set('if-match', submitted.etag)
+          .set('idempotency-key', key)
+          .send({}),
+      ),
+    );
+    expect(answers.map((r) => r.status)).toEqual(Array(10).fill(200));
+    expect(new Set(answers.map((r) => r.text)).size).toBe(1);
+    expect(new Set(answers.map((r) => r.headers.etag)).size).toBe(1);
+    expect(answers[0]?.body.state).toBe('approved');
+    expect(await t.database.prisma.factor.count({ where: { calibrationId: submitted.id } })).toBe(1);
+    expect(await auditEntries(submitted.id, 'approve')).toBe(1);
   });
 
   it('answers the retry of an update with the first 200 and its new ETag, not 412, and changes the vessel once', async () => {
