@@ -55,22 +55,21 @@ export class IdempotencyService {
     const now = this.clock.now();
     this.purgeNowAndThen(now);
     const { ttlMs, waitMs } = this.config.idempotency;
-    try {
-      return await this.prisma.$transaction(async (tx): Promise<KeyedOutcome> => {
-        if (!(await this.keys.claim(tx, scope, request, now, new Date(now.getTime() + ttlMs), waitMs))) {
-          const stored = await this.keys.find(tx, scope);
-          if (!stored) throw inUse();
-          if (!stored.hash.equals(request.hash)) throw reused(stored.method, stored.path);
-          return { kind: 'replay', response: stored.response };
-        }
-        const answered = await runInTransaction(tx, handle);
-        await this.keys.answer(tx, scope, answered.response);
-        return { kind: 'ran', value: answered.value };
-      }, TX);
-    } catch (error) {
-      if (isLockTimeout(error)) throw inUse();
-      throw error;
-    }
+    return this.prisma.$transaction(async (tx): Promise<KeyedOutcome> => {
+      const claimed = await this.keys.claim(tx, scope, request, now, new Date(now.getTime() + ttlMs), waitMs).catch((error: unknown) => {
+        throw isLockTimeout(error) ? inUse() : error;
+      });
+      if (!claimed) {
+        const stored = await this.keys.find(tx, scope);
+        // Always answered once committed (the trigger sees to it); without an answer, say so rather than run twice.
+        if (!stored) throw inUse();
+        if (!stored.hash.equals(request.hash)) throw reused(stored.method, stored.path);
+        return { kind: 'replay', response: stored.response };
+      }
+      const answered = await runInTransaction(tx, handle);
+      await this.keys.answer(tx, scope, answered.response);
+      return { kind: 'ran', value: answered.value };
+    }, TX);
   }
 
   /** Expired keys are deleted in the background, at most once a minute per instance. */
