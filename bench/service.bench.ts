@@ -19,8 +19,9 @@
  *
  * Every figure is also given as a ratio to the bare lookup at the same connection count.
  * Targets (issue "Scale"): factor endpoints at 64 connections ≥ 50 % of bare throughput and
- * p99 < 25 ms; calibration submission p99 < 100 ms; steady due scan < 2 s; import < 5 s; no
- * failed request anywhere. A missed target prints MISSED; the exit code stays 0 (a report, not
+ * p99 < 25 ms; calibration submission p99 < 100 ms, checked at a fixed 20 a second (open loop,
+ * latency corrected for coordinated omission) and reported as fast as answered; steady due
+ * scan < 2 s; import < 5 s; no failed request anywhere. A missed target prints MISSED; the exit code stays 0 (a report, not
  * a gate) unless a request failed. The CSV export against COPY is `npm run bench:export`.
  * Results: stdout, bench/results/service-<date>.json and service-latest.json.
  *
@@ -73,6 +74,8 @@ const SETTINGS = {
   rounds: int('SERVICE_BENCH_ROUNDS', 1),
   poolMax: int('SERVICE_BENCH_POOL_MAX', 10),
   importRows: int('SERVICE_BENCH_IMPORT_ROWS', 10_000),
+  /** Calibration submissions per second of the fixed-rate run (a busy registry: 72,000 an hour at 20). */
+  submissionRate: int('SERVICE_BENCH_SUBMISSION_RATE', 20),
   /** Only these parts (endpoint ids, `import`, `due-scan`); the bare lookup always runs. For profiling one part. */
   only: (process.env.SERVICE_BENCH_ONLY ?? '')
     .split(',')
@@ -430,6 +433,17 @@ async function main(): Promise<void> {
       console.log(`\n${loadTable(results, results[0] as LoadResult)}\n`);
     }
 
+    // Submissions as a busy registry sends them: a fixed rate (open loop), not as fast as answered.
+    let submissionsAtRate: LoadResult | null = null;
+    const submission = loads.find((t) => t.id === 'calibration-submission');
+    if (submission) {
+      const at = { ...submission, id: `calibration-submission-${SETTINGS.submissionRate}-per-s` };
+      submissionsAtRate = await load(at, 16, SETTINGS.durationS, service.child.pid, SETTINGS.submissionRate);
+      console.log(
+        `${at.id} (16 connections, open loop): p50 ${fmt(submissionsAtRate.latencyMs.p50)} ms, p99 ${fmt(submissionsAtRate.latencyMs.p99)} ms, max ${fmt(submissionsAtRate.latencyMs.max)} ms, ${submissionsAtRate.non2xx + submissionsAtRate.errors} failed\n`,
+      );
+    }
+
     let imported: Awaited<ReturnType<typeof timeImport>> | null = null;
     if (runs('import')) {
       console.log(`import of ${SETTINGS.importRows.toLocaleString('en-US')} vessels from CSV…`);
@@ -456,10 +470,20 @@ async function main(): Promise<void> {
           check(`${id}-p99`, `${id}: p99 < ${TARGETS.factorP99Ms} ms`, r.latencyMs.p99, TARGETS.factorP99Ms),
         ]),
       ),
+      ...(submissionsAtRate
+        ? [
+            check(
+              'calibration-submission-p99',
+              `calibration submission at ${SETTINGS.submissionRate}/s: p99 < ${TARGETS.submissionP99Ms} ms`,
+              submissionsAtRate.latencyMs.p99,
+              TARGETS.submissionP99Ms,
+            ),
+          ]
+        : []),
       ...measured('calibration-submission').map((r) =>
         check(
-          'calibration-submission-p99',
-          `calibration submission: p99 < ${TARGETS.submissionP99Ms} ms`,
+          'calibration-submission-p99-saturated',
+          `calibration submission as fast as answered: p99 < ${TARGETS.submissionP99Ms} ms`,
           r.latencyMs.p99,
           TARGETS.submissionP99Ms,
         ),
@@ -470,16 +494,18 @@ async function main(): Promise<void> {
       ...(imported
         ? [check('import', `import of ${SETTINGS.importRows} vessels: < ${TARGETS.importS} s`, imported.seconds, TARGETS.importS)]
         : []),
-      ...Object.entries(byConnections).map(([connections, results]) => {
-        const failed = results.reduce((n, r) => n + r.errors + r.timeouts + r.non2xx, 0);
-        return {
-          id: `errors-${connections}`,
-          description: `no failed request at ${connections} connections`,
-          actual: failed,
-          limit: 0,
-          pass: failed === 0,
-        };
-      }),
+      ...Object.entries({ ...byConnections, ...(submissionsAtRate ? { [`${SETTINGS.submissionRate}/s`]: [submissionsAtRate] } : {}) }).map(
+        ([connections, results]) => {
+          const failed = results.reduce((n, r) => n + r.errors + r.timeouts + r.non2xx, 0);
+          return {
+            id: `errors-${connections}`,
+            description: `no failed request at ${connections.includes('/') ? connections : `${connections} connections`}`,
+            actual: failed,
+            limit: 0,
+            pass: failed === 0,
+          };
+        },
+      ),
     ];
     for (const c of checks) console.log(`${c.pass ? 'PASS  ' : 'MISSED'}  ${c.description}: ${fmt(c.actual, 2)}`);
     console.log(
@@ -504,6 +530,7 @@ async function main(): Promise<void> {
         ]),
       ),
       rounds,
+      submissionsAtRate,
       import: imported && { rows: SETTINGS.importRows, ...imported },
       dueScan,
       serviceMemory,

@@ -18,6 +18,7 @@ declare module 'autocannon' {
       headers?: Record<string, string>;
       requests?: Request[];
       timeout?: number;
+      overallRate?: number;
     }
     interface Histogram {
       average: number;

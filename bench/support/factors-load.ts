@@ -54,12 +54,20 @@ export function memoryOf(pid: number | undefined): { rssMb: number; hwmMb: numbe
 }
 
 /** Drives `target` for `durationS`; `serverPid` is the process whose CPU time is counted. */
-export async function load(target: LoadTarget, connections: number, durationS: number, serverPid?: number): Promise<LoadResult> {
+export async function load(
+  target: LoadTarget,
+  connections: number,
+  durationS: number,
+  serverPid?: number,
+  /** Requests per second over all connections (open loop; latency corrected for coordinated omission); unset: as fast as answered. */
+  overallRate?: number,
+): Promise<LoadResult> {
   const cpuBefore = processCpuMs(serverPid);
   const result = await autocannon({
     url: target.url,
     connections,
     duration: durationS,
+    ...(overallRate === undefined ? {} : { overallRate }),
     timeout: 10,
     requests: [
       {
