@@ -34,6 +34,14 @@ describe('toProblem', () => {
     expect(unexpected).toBe(false);
   });
 
+  it.each([
+    'Connection terminated due to connection timeout',
+    'timeout exceeded when trying to connect',
+    'Client has encountered a connection error and is not queryable',
+  ])('maps the pool’s “%s” (a database that does not answer, or a connection lost mid-request) to 503', (message) => {
+    expect(toProblem(new Error(message), {}).problem).toMatchObject({ status: 503, code: 'service-unavailable' });
+  });
+
   it('maps the pg adapter’s lost-connection kinds to 503 and leaves its other kinds alone', () => {
     const adapterError = (kind: string) => Object.assign(new Error('DriverAdapterError'), { cause: { kind } });
     expect(toProblem(adapterError('ConnectionClosed'), {}).problem.status).toBe(503);
