@@ -48,14 +48,10 @@ export async function createApp({ config, database, logger, clock }: CreateAppOp
   const metrics = new HttpMetrics(database.pool);
   const root = AppModule.register({ config, database, metrics, ...(clock ? { clock } : {}) });
   applyIdempotencyKeys(root);
-  const app = await NestFactory.create<NestFastifyApplication>(
-    root,
-    adapter,
-    {
-      logger: new PinoNestLogger(logger),
-      abortOnError: false,
-    },
-  );
+  const app = await NestFactory.create<NestFastifyApplication>(root, adapter, {
+    logger: new PinoNestLogger(logger),
+    abortOnError: false,
+  });
   const fastify = app.getHttpAdapter().getInstance() as unknown as FastifyInstance;
   registerResponseHeaders(fastify);
   registerCsvBody(fastify);
