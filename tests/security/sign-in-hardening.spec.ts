@@ -68,6 +68,18 @@ describe('sign-in under parallel guessing', () => {
       .expect(429);
   });
 
+  it('counts spellings of one email that differ in case and surrounding spaces as one account', async () => {
+    const person = await seedPersonWithPassword(t.database.prisma, PASSWORD);
+    const spell = (i: number) => {
+      const cased = [...person.email].map((c, j) => ((i >> (j % 8)) & 1 ? c.toUpperCase() : c)).join('');
+      return i % 3 === 0 ? ` ${cased}\t` : cased;
+    };
+    const statuses = await race(
+      Array.from({ length: ATTEMPTS }, (_, i) => ({ email: spell(i), password: `guess ${i}`, ip: nextAddress() })),
+    );
+    expect(count(statuses, 401)).toBe(MAX_FAILURES);
+  });
+
   it(`lets at most ${MAX_FAILURES * ADDRESS_FACTOR} of ${ATTEMPTS} simultaneous attempts from one address be checked, across accounts`, async () => {
     const ip = nextAddress();
     const statuses = await race(
