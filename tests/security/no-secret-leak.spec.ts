@@ -1,13 +1,14 @@
 import type { Response } from 'supertest';
 
-import { TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
+import { raiseNotice, type Received, readmeRecipe, runWorker, startReceiver, TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
 import { bearer, seedCast, seedPersonWithPassword } from '../support/factories';
 import { startTestApp, type TestApp } from '../support/test-app';
 
 /*
  * Every kind of secret the service makes or receives (passwords at sign-in,
  * sign-up and password change, session tokens, service credential keys,
- * webhook signing secrets, calendar-feed tokens) is made and used with the
+ * webhook signing secrets, calendar-feed tokens) is made and used (a webhook
+ * delivery signed and sent included) with the
  * most verbose logging. Afterwards no secret may appear in any log line the
  * service wrote, in any later response (lists, reads, the audit trail, every
  * export in every format), nor in clear in any table.
@@ -25,10 +26,16 @@ describe('secrets in logs and responses', () => {
   const secrets: { name: string; value: string; createdAt: number }[] = [];
   const responses: { what: string; text: string }[] = [];
 
+  let receiver: Awaited<ReturnType<typeof startReceiver>>;
+
   beforeAll(async () => {
     t = await startTestApp({ LOG_LEVEL: 'trace', WEBHOOK_SECRET_KEY: TEST_WEBHOOK_KEY });
+    receiver = await startReceiver([200]);
   }, 60_000);
-  afterAll(() => t.close());
+  afterAll(async () => {
+    await receiver.close();
+    await t.close();
+  });
 
   /** Sends and keeps the answer's text (a PDF's bytes as latin1, so any ASCII secret inside would show). */
   async function call(what: string, send: Promise<Response>, expected: number): Promise<Response> {
@@ -111,7 +118,7 @@ describe('secrets in logs and responses', () => {
       http
         .post(`/v1/labs/${lab}/webhooks`)
         .set(bearer(managerToken))
-        .send({ url: 'https://samples.waterworks.example/hooks/registry', eventKinds: ['due-soon', 'overdue'] }),
+        .send({ url: receiver.url, eventKinds: ['due-soon', 'overdue'] }),
       201,
     );
     secret('webhook secret', webhook.body.secret);
@@ -121,6 +128,13 @@ describe('secrets in logs and responses', () => {
       200,
     );
     secret('rotated webhook secret', rotatedHook.body.secret);
+    // A notice delivered to the webhook: signed with the secret, which itself travels nowhere.
+    await raiseNotice(t, { labId: lab, recipientIds: [person.body.id] });
+    await runWorker(t);
+    expect(receiver.received).toHaveLength(1);
+    const [delivered] = receiver.received as [Received];
+    expect(readmeRecipe()(rotatedHook.body.secret, delivered.headers, delivered.body)).toBe(true);
+    responses.push({ what: 'the webhook delivery', text: JSON.stringify(delivered) });
     const feed = await call(
       'create a feed',
       http.post(`/v1/labs/${lab}/calendar-feeds`).set(bearer(managerToken)).send({ name: 'DW-CHEM due dates' }),
