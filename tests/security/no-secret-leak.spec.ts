@@ -7,11 +7,11 @@ import { startTestApp, type TestApp } from '../support/test-app';
 /*
  * Every kind of secret the service makes or receives (passwords at sign-in,
  * sign-up and password change, session tokens, service credential keys,
- * webhook signing secrets, calendar-feed tokens) is made and used (a webhook
- * delivery signed and sent included) with the
- * most verbose logging. Afterwards no secret may appear in any log line the
- * service wrote, in any later response (lists, reads, the audit trail, every
- * export in every format), nor in clear in any table.
+ * webhook signing secrets, calendar-feed tokens) is made and used, a signed
+ * webhook delivery included, with the most verbose logging. Afterwards no
+ * secret may appear in any log line the service wrote, in any later response
+ * (lists, reads, the audit trail, every export in every format), nor in clear
+ * in any table.
  */
 
 const ADMIN_PASSWORD = 'settled sludge volume after thirty minutes';
