@@ -33,10 +33,11 @@ export interface SoakWorld {
 /**
  * Picks the traffic's targets from a seeded registry by SQL and writes sessions for the people
  * chosen (as the sign-in writes them): pairs with a current factor in force now, not marked for
- * review, on an in-service vessel, whose person is an active member of the vessel's lab; per lab, active managers and analysts, in-service 25 mL
- * one-mark pipettes to deliver (with a limit a good run meets, or none), a balance and thermometer
- * in service whose calibration is not overdue, and a certified 100 g weight for the balance's
- * routine check (recorded through the API before the run: see `checkBalances`).
+ * review, on an in-service vessel, whose person is an active member of the vessel's lab; per
+ * lab, active managers and analysts, in-service 25 mL one-mark pipettes to deliver (with a limit
+ * a good run meets, or none), a balance and thermometer in service whose calibration is not
+ * overdue, and a certified 100 g weight for the balance's routine check (recorded through the
+ * API before the run: see `checkBalances`).
  */
 export async function soakWorld(db: Client, credentialKey: string, maxPairs = 1000): Promise<SoakWorld> {
   const { rows: pairs } = await db.query<SoakPair>(
