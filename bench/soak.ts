@@ -8,7 +8,8 @@
  * the benchmark's) for SOAK_DURATION_S (300) or SOAK_MAX_REQUESTS (1,000,000), whichever ends
  * first: factor lookups and corrections with the seed's service credential, vessel pages by
  * managers, and calibrations created and submitted by analysts and approved by a manager of the
- * lab with If-Match (bench/soak/driver.ts). The service's RSS is sampled every second.
+ * lab with If-Match (bench/soak/driver.ts). The service's RSS is sampled every second, and its
+ * JavaScript heap in use (from /metrics) beside it.
  *
  * Afterwards, by SQL (bench/soak/invariants.ts): one current factor per person and vessel, each
  * factor's person and vessel its calibration's, the audit chain intact, and the rows written
@@ -37,7 +38,7 @@ import { seedRegistry } from './seed/run';
 import { SIZE_NAMES, SIZES, type SizeName } from './seed/sizes';
 import { checkBalances, drive } from './soak/driver';
 import { checkInvariants } from './soak/invariants';
-import { rssTrend, sampleRss } from './soak/memory';
+import { rssTrend, sampleHeap, sampleRss } from './soak/memory';
 import { P99_TARGETS_MS, summarize, verdict } from './soak/summary';
 import { soakWorld } from './soak/world';
 import { openBenchDatabase } from './support/bench-database';
@@ -123,9 +124,10 @@ async function main(): Promise<void> {
 
     const since = (await owner.query<{ now: Date }>('SELECT now() AS now')).rows[0]?.now as Date;
     const memory = sampleRss(service.child.pid);
+    const heap = sampleHeap(`${baseUrl}/metrics`);
     const progress = setInterval(() => {
       const last = memory.samples.at(-1);
-      if (last) console.log(`  ${Math.round(last.t)} s: RSS ${fmt(last.rssMb)} MB, load ${fmt(os.loadavg()[0] ?? 0)}`);
+      if (last) console.log(`  ${Math.round(last.t)} s: RSS ${fmt(last.mb)} MB, load ${fmt(os.loadavg()[0] ?? 0)}`);
     }, 30_000);
     const run = await drive(world, {
       baseUrl,
@@ -135,6 +137,7 @@ async function main(): Promise<void> {
     });
     clearInterval(progress);
     const trend = rssTrend(memory.stop());
+    const heapTrend = rssTrend(heap.stop());
     const loadAtEnd = loadAverage1m();
     if (service.child.exitCode !== null || service.child.signalCode !== null) {
       throw new Error(`the service exited during the run\n${service.stderr()}`);
@@ -175,6 +178,10 @@ async function main(): Promise<void> {
         `every sample ${fmt(trend.rawSlopeMbPerMin, 2)} MB/min\n`,
     );
     console.log(
+      `JavaScript heap in use: start ${fmt(heapTrend.startMb)} MB, end ${fmt(heapTrend.endMb)} MB, peak ${fmt(heapTrend.peakMb)} MB; ` +
+        `floor ${fmt(heapTrend.slopeMbPerMin, 2)} MB/min over the last ${fmt(heapTrend.fittedOverS, 0)} s (reported, not a gate)\n`,
+    );
+    console.log(
       formatTable(
         ['invariant', 'result', 'detail'],
         invariants.map((c) => [c.id, c.pass ? 'ok' : 'BROKEN', JSON.stringify(c.detail)]),
@@ -204,7 +211,8 @@ async function main(): Promise<void> {
       transportErrors: run.transportErrors,
       operations,
       acknowledged,
-      memory: { ...trend, slopeLimitMbPerMin: SETTINGS.rssSlopeLimit, samples: memory.samples.map((s) => [s.t, s.rssMb]) },
+      memory: { ...trend, slopeLimitMbPerMin: SETTINGS.rssSlopeLimit, samples: memory.samples.map((s) => [s.t, s.mb]) },
+      heapUsed: { ...heapTrend, samples: heap.samples.map((s) => [s.t, s.mb]) },
       invariants,
       unexpected: run.unexpected,
       pass: result.pass,

@@ -1,9 +1,10 @@
 import { memoryOf } from '../support/factors-load';
 
+/** One reading of a memory figure (RSS, or the JavaScript heap in use), MB. */
 export interface RssSample {
   /** Seconds since sampling began. */
   readonly t: number;
-  readonly rssMb: number;
+  readonly mb: number;
 }
 
 export interface RssTrend {
@@ -31,7 +32,7 @@ export function sampleRss(pid: number | undefined, everyMs = 1000) {
   const t0 = performance.now();
   const take = () => {
     const m = memoryOf(pid);
-    if (m && Number.isFinite(m.rssMb)) samples.push({ t: (performance.now() - t0) / 1000, rssMb: m.rssMb });
+    if (m && Number.isFinite(m.rssMb)) samples.push({ t: (performance.now() - t0) / 1000, mb: m.rssMb });
   };
   take();
   const timer = setInterval(take, everyMs);
@@ -40,6 +41,39 @@ export function sampleRss(pid: number | undefined, everyMs = 1000) {
     stop: (): RssSample[] => {
       clearInterval(timer);
       take();
+      return samples;
+    },
+  };
+}
+
+/**
+ * Samples the JavaScript heap in use (`nodejs_heap_size_used_bytes` of the service's /metrics)
+ * every `everyMs`: beside the RSS, it tells a leak of JavaScript objects (the heap's floor rises
+ * too) from V8 or the allocator keeping more pages (only the RSS's does).
+ */
+export function sampleHeap(metricsUrl: string, everyMs = 1000) {
+  const samples: RssSample[] = [];
+  const t0 = performance.now();
+  let busy = false;
+  const take = async () => {
+    if (busy) return;
+    busy = true;
+    try {
+      const text = await (await fetch(metricsUrl, { signal: AbortSignal.timeout(5000) })).text();
+      const bytes = Number(/^nodejs_heap_size_used_bytes (\S+)$/m.exec(text)?.[1]);
+      if (Number.isFinite(bytes)) samples.push({ t: (performance.now() - t0) / 1000, mb: bytes / 2 ** 20 });
+    } catch {
+      // a reading missed under load: the next one counts
+    } finally {
+      busy = false;
+    }
+  };
+  void take();
+  const timer = setInterval(() => void take(), everyMs);
+  return {
+    samples,
+    stop: (): RssSample[] => {
+      clearInterval(timer);
       return samples;
     },
   };
@@ -93,18 +127,18 @@ export function rssTrend(samples: readonly RssSample[], floorWindowS = 20): RssT
   const floors = new Map<number, number>();
   for (const s of half) {
     const w = Math.floor((s.t - from) / floorWindowS);
-    floors.set(w, Math.min(floors.get(w) ?? Infinity, s.rssMb));
+    floors.set(w, Math.min(floors.get(w) ?? Infinity, s.mb));
   }
   // Only whole windows: a last, shorter one may hold no collection, and its lowest sample no floor.
   const whole = Math.floor(((half.at(-1) as RssSample).t - from + 1e-9) / floorWindowS);
   const windows = [...floors.entries()].filter(([w]) => w < whole).map(([w, mb]) => ({ x: from + w * floorWindowS, y: mb }));
   return {
     samples: samples.length,
-    startMb: (samples[0] as RssSample).rssMb,
-    endMb: (samples.at(-1) as RssSample).rssMb,
-    peakMb: Math.max(...samples.map((s) => s.rssMb)),
+    startMb: (samples[0] as RssSample).mb,
+    endMb: (samples.at(-1) as RssSample).mb,
+    peakMb: Math.max(...samples.map((s) => s.mb)),
     slopeMbPerMin: leastSquaresSlope(windows) * 60,
-    rawSlopeMbPerMin: leastSquaresSlope(half.map((s) => ({ x: s.t, y: s.rssMb }))) * 60,
+    rawSlopeMbPerMin: leastSquaresSlope(half.map((s) => ({ x: s.t, y: s.mb }))) * 60,
     floorWindowS,
     floors: windows.map((p) => [p.x, p.y]),
     fittedOverS: half.length > 1 ? (half.at(-1) as RssSample).t - from : 0,

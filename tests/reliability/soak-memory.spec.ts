@@ -9,7 +9,7 @@ import { leastSquaresSlope, type RssSample, rssTrend } from '../../bench/soak/me
 const sawtooth = (seconds: number, floorMbPerMin: number, periodS = 13, amplitudeMb = 80, phaseS = 0): RssSample[] =>
   Array.from({ length: seconds + 1 }, (_, t) => ({
     t,
-    rssMb: 300 + (floorMbPerMin * t) / 60 + (amplitudeMb * ((t + phaseS) % periodS)) / periodS,
+    mb: 300 + (floorMbPerMin * t) / 60 + (amplitudeMb * ((t + phaseS) % periodS)) / periodS,
   }));
 
 describe('soak memory trend', () => {
@@ -33,8 +33,8 @@ describe('soak memory trend', () => {
     const trend = rssTrend(samples);
     expect(trend.slopeMbPerMin).toBeGreaterThan(2.5);
     expect(trend.slopeMbPerMin).toBeLessThan(3.5);
-    expect(trend).toMatchObject({ samples: 301, startMb: samples[0]!.rssMb, endMb: samples.at(-1)!.rssMb, fittedOverS: 150 });
-    expect(trend.peakMb).toBe(Math.max(...samples.map((s) => s.rssMb)));
+    expect(trend).toMatchObject({ samples: 301, startMb: samples[0]!.mb, endMb: samples.at(-1)!.mb, fittedOverS: 150 });
+    expect(trend.peakMb).toBe(Math.max(...samples.map((s) => s.mb)));
     expect(trend.floors.length).toBe(7);
   });
 });
