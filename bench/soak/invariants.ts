@@ -57,6 +57,21 @@ export async function checkInvariants(pool: Pool, since: Date, run: DriverResult
     detail: { pairsWithMoreThanOne: duplicates.length, examples: duplicates.slice(0, 5) },
   });
 
+  const withoutCurrent = await q<{ performer_id: string; vessel_id: string; n: number }>(
+    `SELECT p.performer_id, p.vessel_id, (SELECT count(*)::int FROM factors f
+              WHERE f.state = 'current' AND f.person_id = p.performer_id AND f.vessel_id = p.vessel_id) AS n
+       FROM (SELECT DISTINCT performer_id, vessel_id FROM calibrations
+              WHERE created_at >= $1 AND state = 'approved' AND verdict <> 'fail') p`,
+    [since],
+  );
+  const notOne = withoutCurrent.filter((r) => r.n !== 1);
+  checks.push({
+    id: 'approved-pairs-current',
+    description: 'each (performer, vessel) with a passing approval during the run has exactly one current factor',
+    pass: notOne.length === 0,
+    detail: { pairs: withoutCurrent.length, notExactlyOne: notOne.length, examples: notOne.slice(0, 5) },
+  });
+
   const mismatched = await q<{ id: string }>(
     `SELECT f.id FROM factors f LEFT JOIN calibrations c ON c.id = f.calibration_id
       WHERE c.id IS NULL OR f.person_id <> c.performer_id OR f.vessel_id <> c.vessel_id OR f.lab_id <> c.lab_id`,

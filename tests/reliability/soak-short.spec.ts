@@ -78,6 +78,7 @@ describe('soak (short): mixed traffic against the service process, then the inva
     expect(invariants.filter((c) => !c.pass)).toEqual([]);
     expect(invariants.map((c) => c.id)).toEqual([
       'one-current-factor',
+      'approved-pairs-current',
       'factor-matches-calibration',
       'audit-chain',
       'calibrations-created',
