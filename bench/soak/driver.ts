@@ -53,6 +53,13 @@ export interface DriverOptions {
   readonly mix?: Readonly<Record<Work, number>>;
   /** Per request (ms): a request that takes longer counts as a transport error. */
   readonly requestTimeoutMs?: number;
+  /**
+   * Pieces of work a second over all clients (a calibration's three requests are one piece), each
+   * client keeping its own schedule (open loop). The first request of a piece is timed from when
+   * it was due, not from when it was sent, so a service that falls behind shows in the latencies
+   * (no coordinated omission). Unset: each client starts its next piece as soon as the last ended.
+   */
+  readonly rate?: number;
 }
 
 export interface AcknowledgedCalibration {
@@ -189,9 +196,17 @@ export async function drive(world: SoakWorld, o: DriverOptions): Promise<DriverR
   };
 
   /** One request; null when no answer came (counted as a transport error). */
-  const send = async (kind: OperationKind, method: string, path: string, headers: Record<string, string>, body?: unknown) => {
+  /** One request, timed from `dueAt` (performance.now() time) when given, else from now. */
+  const send = async (
+    kind: OperationKind,
+    method: string,
+    path: string,
+    headers: Record<string, string>,
+    body?: unknown,
+    dueAt?: number,
+  ) => {
     requests++;
-    const t0 = performance.now();
+    const t0 = Math.min(dueAt ?? Infinity, performance.now());
     try {
       const res = await fetch(`${o.baseUrl}${path}`, {
         method,
@@ -218,7 +233,7 @@ export async function drive(world: SoakWorld, o: DriverOptions): Promise<DriverR
     }
   };
 
-  const calibrate = async () => {
+  const calibrate = async (dueAt?: number) => {
     const lab = pick(world.labs);
     const analyst = { authorization: `Bearer ${pick(lab.analystTokens)}` };
     const createRequestId = randomUUID();
@@ -228,6 +243,7 @@ export async function drive(world: SoakWorld, o: DriverOptions): Promise<DriverR
       '/v1/calibrations',
       { ...analyst, 'x-request-id': createRequestId },
       pipetteRunBody(lab, pick(lab.pipetteIds), new Date(Date.now() - 60_000)),
+      dueAt,
     );
     if (created?.status !== 201) return;
     const cal: AcknowledgedCalibration = { id: String(created.body.id), labId: lab.labId, createRequestId };
@@ -253,7 +269,7 @@ export async function drive(world: SoakWorld, o: DriverOptions): Promise<DriverR
     cal.factorId = impact?.factor?.id ?? null;
   };
 
-  const work = async (next: Work) => {
+  const work = async (next: Work, dueAt?: number) => {
     switch (next) {
       case 'factor-by-ids': {
         const p = pick(world.pairs);
@@ -262,6 +278,8 @@ export async function drive(world: SoakWorld, o: DriverOptions): Promise<DriverR
           'GET',
           `/v1/factors/current?${new URLSearchParams({ personId: p.personId, vesselId: p.vesselId })}`,
           credential,
+          undefined,
+          dueAt,
         );
         return;
       }
@@ -272,16 +290,25 @@ export async function drive(world: SoakWorld, o: DriverOptions): Promise<DriverR
           'GET',
           `/v1/factors/current?${new URLSearchParams({ assetTag: p.assetTag, email: p.email })}`,
           credential,
+          undefined,
+          dueAt,
         );
         return;
       }
       case 'correction': {
         const p = pick(world.pairs);
-        await send('correction', 'POST', '/v1/factors/corrections', credential, {
-          personId: p.personId,
-          vesselId: p.vesselId,
-          indicatedVolumeMl: p.indicatedVolumeMl,
-        });
+        await send(
+          'correction',
+          'POST',
+          '/v1/factors/corrections',
+          credential,
+          {
+            personId: p.personId,
+            vesselId: p.vesselId,
+            indicatedVolumeMl: p.indicatedVolumeMl,
+          },
+          dueAt,
+        );
         return;
       }
       case 'vessel-list': {
@@ -293,18 +320,28 @@ export async function drive(world: SoakWorld, o: DriverOptions): Promise<DriverR
           limit: '50',
           sort: pick(LIST_SORTS),
         });
-        await send('vessel-list', 'GET', `/v1/vessels?${query}`, { authorization: `Bearer ${pick(lab.managerTokens)}` });
+        await send('vessel-list', 'GET', `/v1/vessels?${query}`, { authorization: `Bearer ${pick(lab.managerTokens)}` }, undefined, dueAt);
         return;
       }
       case 'calibration':
-        await calibrate();
+        await calibrate(dueAt);
     }
   };
 
-  const client = async () => {
+  const closedLoop = async () => {
     while (performance.now() < deadline && requests < o.maxRequests) await work(draw());
   };
-  await Promise.all(Array.from({ length: o.connections }, client));
+  /** Client `i` of n: a piece every n / rate seconds, the clients' schedules staggered. */
+  const openLoop = async (rate: number, i: number) => {
+    const intervalMs = (1000 * o.connections) / rate;
+    for (let due = started + (i * intervalMs) / o.connections; due < deadline && requests < o.maxRequests; due += intervalMs) {
+      const wait = due - performance.now();
+      if (wait > 0) await new Promise((r) => setTimeout(r, wait));
+      await work(draw(), due);
+    }
+  };
+  const rate = o.rate;
+  await Promise.all(Array.from({ length: o.connections }, (_, i) => (rate === undefined ? closedLoop() : openLoop(rate, i))));
   return {
     startedAt,
     elapsedMs: performance.now() - started,

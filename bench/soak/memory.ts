@@ -137,7 +137,8 @@ export function rssTrend(samples: readonly RssSample[], floorWindowS = 20): RssT
     startMb: (samples[0] as RssSample).mb,
     endMb: (samples.at(-1) as RssSample).mb,
     peakMb: Math.max(...samples.map((s) => s.mb)),
-    slopeMbPerMin: leastSquaresSlope(windows) * 60,
+    // Fewer than three floors make no trend (a run under about two minutes): NaN, reported as not measured.
+    slopeMbPerMin: windows.length >= 3 ? leastSquaresSlope(windows) * 60 : NaN,
     rawSlopeMbPerMin: leastSquaresSlope(half.map((s) => ({ x: s.t, y: s.mb }))) * 60,
     floorWindowS,
     floors: windows.map((p) => [p.x, p.y]),

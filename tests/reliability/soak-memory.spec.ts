@@ -37,4 +37,9 @@ describe('soak memory trend', () => {
     expect(trend.peakMb).toBe(Math.max(...samples.map((s) => s.mb)));
     expect(trend.floors.length).toBe(7);
   });
+
+  it('gives no trend for a run too short to hold three whole windows in its second half', () => {
+    expect(rssTrend(sawtooth(100, 50)).slopeMbPerMin).toBeNaN();
+    expect(rssTrend([]).samples).toBe(0);
+  });
 });
