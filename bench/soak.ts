@@ -18,7 +18,7 @@
  *
  * Exit code 1 on any 5xx, any other refusal or request without an answer, any broken invariant,
  * or an RSS trend of SOAK_RSS_SLOPE_LIMIT MB/min (2) or more: the least-squares slope, over the
- * second half of the run, of the RSS's floor (its lowest value in each 20 s window). The p99
+ * second half of the run, of the RSS's floor (its lowest value in each 40 s window). The p99
  * targets of the service benchmark are printed beside the figures but not enforced: as fast as
  * answered, 64 clients keep the service saturated and p99 measures the queue they build (see
  * bench/soak/summary.ts); SOAK_RATE measures them at a set load.
@@ -63,7 +63,7 @@ const SETTINGS = {
   size: sizeName,
   poolMax: Math.round(positive('SOAK_POOL_MAX', 10)),
   /**
-   * MB/min, for the floor of the RSS (its lowest value in each 20 s, after the major collections;
+   * MB/min, for the floor of the RSS (its lowest value in each 40 s, after the major collections;
    * bench/soak/memory.ts) over the second half of the run. 2 MB/min is 120 MB an hour, which would
    * fill a 512 MB container within a working day: a leak worth stopping for. A steady service's
    * floor stays well inside it once the heap has settled (see the report's figures).
@@ -189,7 +189,7 @@ async function main(): Promise<void> {
       `RSS: start ${fmt(trend.startMb)} MB, end ${fmt(trend.endMb)} MB, peak ${fmt(trend.peakMb)} MB; over the last ${fmt(trend.fittedOverS, 0)} s ` +
         (trendMeasured
           ? `the floor (lowest RSS per ${trend.floorWindowS} s) moved ${fmt(trend.slopeMbPerMin, 2)} MB/min (limit ${SETTINGS.rssSlopeLimit}), `
-          : `no trend (fewer than three whole ${trend.floorWindowS} s windows: run 150 s or more), `) +
+          : `no trend (fewer than three whole ${trend.floorWindowS} s windows: run 250 s or more), `) +
         `every sample ${fmt(trend.rawSlopeMbPerMin, 2)} MB/min\n`,
     );
     console.log(

@@ -14,7 +14,7 @@ export interface RssTrend {
   readonly peakMb: number;
   /**
    * The trend, MB per minute: least-squares slope, over the second half of the run, of the lowest
-   * RSS in each `floorWindowS` window (the level after each major collection).
+   * RSS in each `floorWindowS` window (the level after each major collection); NaN for fewer than three windows.
    */
   readonly slopeMbPerMin: number;
   /** The same fit over every sample of the second half: dominated by where the run cut the GC sawtooth. */
@@ -100,15 +100,16 @@ export function leastSquaresSlope(points: readonly { x: number; y: number }[]): 
  * size), which is growth but not a leak.
  *
  * Under load the service's RSS is a sawtooth: V8 fills its young and old space by tens of MB in
- * seconds and a major collection gives it back (measured here at 64 clients: about 80 MB up and
- * down every 10–15 s, irregularly). A straight line through every sample depends on where the run
+ * seconds and a major collection gives it back (measured here: about 80 MB up and down every
+ * 10–15 s at 64 clients as fast as answered, up to 36 s apart at 116 requests a second). A straight line through every sample depends on where the run
  * happened to stop in that cycle (for a regular 80 MB, 13 s sawtooth over 150 s it moves by about
  * 1.6 MB/min with the stopping phase; see tests/reliability/soak-memory.spec.ts). What a leak
  * raises is the floor, the RSS right after a collection: so the trend is fitted to the lowest
- * sample of each whole `floorWindowS` window (longer than one cycle), and the all-samples slope is
- * reported beside it.
+ * sample of each whole `floorWindowS` window (40 s: longer than the longest cycle seen, so each
+ * window holds a collection), and the all-samples slope is reported beside it. A run needs three
+ * whole windows in its second half (about 250 s) for a trend.
  */
-export function rssTrend(samples: readonly RssSample[], floorWindowS = 20): RssTrend {
+export function rssTrend(samples: readonly RssSample[], floorWindowS = 40): RssTrend {
   if (samples.length === 0) {
     return {
       samples: 0,
