@@ -137,12 +137,14 @@ async function sessionsFor(db: Client, personIds: readonly string[]): Promise<Ma
   return tokens;
 }
 
-/** The sample pairs whose person may still ask (active) and that have a current factor now. */
+/** The sample pairs the lookup answers now: an active person, a vessel in service, a current factor not about to expire. */
 async function answerablePairs(db: Client, pairs: readonly FactorPair[]): Promise<FactorPair[]> {
   const { rows } = await db.query<{ i: number }>(
     `SELECT p.i FROM unnest($1::uuid[], $2::uuid[]) WITH ORDINALITY AS p (person_id, vessel_id, i)
       WHERE EXISTS (SELECT 1 FROM people x WHERE x.id = p.person_id AND x.status = 'active')
-        AND EXISTS (SELECT 1 FROM factors f WHERE f.person_id = p.person_id AND f.vessel_id = p.vessel_id AND f.state = 'current')`,
+        AND EXISTS (SELECT 1 FROM vessels v WHERE v.id = p.vessel_id AND v.status = 'in-service')
+        AND EXISTS (SELECT 1 FROM factors f WHERE f.person_id = p.person_id AND f.vessel_id = p.vessel_id AND f.state = 'current'
+                      AND f.valid_until > now() + interval '1 day')`,
     [pairs.map((p) => p.personId), pairs.map((p) => p.vesselId)],
   );
   const kept = rows.map((r) => pairs[Number(r.i) - 1] as FactorPair);
@@ -424,7 +426,10 @@ async function main(): Promise<void> {
         for (const target of loads) {
           const r = await load(target, connections, SETTINGS.durationS, pid(target));
           runs.set(r.id, [...(runs.get(r.id) ?? []), r]);
-          console.log(`  ${r.id}: ${fmt(r.requestsPerSecond, 0)} req/s, p99 ${fmt(r.latencyMs.p99)} ms (load ${fmt(loadAverage1m())})`);
+          const rss = memoryOf(pid(target) === service.child.pid ? service.child.pid : undefined)?.rssMb;
+          console.log(
+            `  ${r.id}: ${fmt(r.requestsPerSecond, 0)} req/s, p99 ${fmt(r.latencyMs.p99)} ms (load ${fmt(loadAverage1m())}${rss ? `, service RSS ${fmt(rss, 0)} MB` : ''})`,
+          );
         }
       }
       const results = loads.map((t) => median(runs.get(t.id) ?? []));
