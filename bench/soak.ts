@@ -194,7 +194,7 @@ async function main(): Promise<void> {
     );
     console.log(
       `JavaScript heap in use: start ${fmt(heapTrend.startMb)} MB, end ${fmt(heapTrend.endMb)} MB, peak ${fmt(heapTrend.peakMb)} MB; ` +
-        `floor ${Number.isFinite(heapTrend.slopeMbPerMin) ? fmt(heapTrend.slopeMbPerMin, 2) : 'not measured'} MB/min over the last ${fmt(heapTrend.fittedOverS, 0)} s (reported, not a gate)\n`,
+        `floor ${Number.isFinite(heapTrend.slopeMbPerMin) ? `${fmt(heapTrend.slopeMbPerMin, 2)} MB/min` : 'trend not measured'} over the last ${fmt(heapTrend.fittedOverS, 0)} s (reported, not a gate)\n`,
     );
     console.log(
       formatTable(
