@@ -18,7 +18,6 @@ declare module 'autocannon' {
       headers?: Record<string, string>;
       requests?: Request[];
       timeout?: number;
-      overallRate?: number;
     }
     interface Histogram {
       average: number;

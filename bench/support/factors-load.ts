@@ -54,20 +54,12 @@ export function memoryOf(pid: number | undefined): { rssMb: number; hwmMb: numbe
 }
 
 /** Drives `target` for `durationS`; `serverPid` is the process whose CPU time is counted. */
-export async function load(
-  target: LoadTarget,
-  connections: number,
-  durationS: number,
-  serverPid?: number,
-  /** Requests per second over all connections (open loop; latency corrected for coordinated omission); unset: as fast as answered. */
-  overallRate?: number,
-): Promise<LoadResult> {
+export async function load(target: LoadTarget, connections: number, durationS: number, serverPid?: number): Promise<LoadResult> {
   const cpuBefore = processCpuMs(serverPid);
   const result = await autocannon({
     url: target.url,
     connections,
     duration: durationS,
-    ...(overallRate === undefined ? {} : { overallRate }),
     timeout: 10,
     requests: [
       {
@@ -98,6 +90,65 @@ export async function load(
       cpuBefore === null || cpuAfter === null || result.requests.total === 0
         ? null
         : (1000 * (cpuAfter - cpuBefore)) / result.requests.total,
+  };
+}
+
+/**
+ * Requests sent at evenly spaced instants (`ratePerS`), each on its own, whatever the answers
+ * do: the load a steady stream of users makes. Latency runs from the instant a request was due,
+ * so a backlog shows in it (no coordinated omission). (autocannon's own rate limit sends each
+ * second's requests together: a burst.)
+ */
+export async function openLoop(target: LoadTarget, ratePerS: number, durationS: number, serverPid?: number): Promise<LoadResult> {
+  const cpuBefore = processCpuMs(serverPid);
+  const intervalMs = 1000 / ratePerS;
+  const total = Math.round(ratePerS * durationS);
+  const latencies: number[] = [];
+  const statusCodes: Record<string, number> = {};
+  let errors = 0;
+  const started = performance.now();
+  const inFlight: Promise<void>[] = [];
+  for (let i = 0; i < total; i++) {
+    const due = started + i * intervalMs;
+    const wait = due - performance.now();
+    if (wait > 0) await new Promise((r) => setTimeout(r, wait));
+    const { path, body, headers } = target.next();
+    inFlight.push(
+      fetch(`${target.url}${path}`, { method: target.method, headers: headers ?? target.headers, ...(body === undefined ? {} : { body }) })
+        .then(async (res) => {
+          await res.arrayBuffer();
+          statusCodes[String(res.status)] = (statusCodes[String(res.status)] ?? 0) + 1;
+          latencies.push(performance.now() - due);
+        })
+        .catch(() => {
+          errors++;
+        }),
+    );
+  }
+  await Promise.all(inFlight);
+  const elapsedS = (performance.now() - started) / 1000;
+  const cpuAfter = processCpuMs(serverPid);
+  const sorted = [...latencies].sort((a, b) => a - b);
+  const at = (q: number) => sorted[Math.min(sorted.length - 1, Math.ceil(q * sorted.length) - 1)] ?? NaN;
+  const ok = Object.entries(statusCodes).reduce((n, [code, c]) => n + (code.startsWith('2') ? c : 0), 0);
+  return {
+    id: target.id,
+    description: `${target.description}, ${ratePerS} a second at even intervals`,
+    requestsPerSecond: latencies.length / elapsedS,
+    latencyMs: {
+      p50: at(0.5),
+      p90: at(0.9),
+      p99: at(0.99),
+      max: sorted.at(-1) ?? NaN,
+      mean: sorted.reduce((a, b) => a + b, 0) / (sorted.length || 1),
+    },
+    requests: latencies.length + errors,
+    errors,
+    timeouts: 0,
+    non2xx: latencies.length - ok,
+    statusCodes,
+    serverCpuUsPerRequest:
+      cpuBefore === null || cpuAfter === null || latencies.length === 0 ? null : (1000 * (cpuAfter - cpuBefore)) / latencies.length,
   };
 }
 
