@@ -35,7 +35,7 @@ import { to as copyTo } from 'pg-copy-streams';
 import { newSessionToken } from '../apps/api/src/auth/tokens';
 import { CALIBRATION_LOG_SQL } from '../apps/api/src/exports/report-sql';
 import { openBenchDatabase, repoRoot } from './support/bench-database';
-import { memoryOf, startProcess, stopProcess, waitForOk } from './support/factors-load';
+import { memoryOf, startProcess, stopProcess, waitForOk, serviceEnv } from './support/factors-load';
 
 const int = (name: string, fallback: number) => {
   const v = Number(process.env[name] ?? fallback);
@@ -230,14 +230,7 @@ async function main(): Promise<void> {
     console.log(`seeded ${fmt(SETTINGS.rows)} calibrations in ${fmt((Date.now() - seedStart) / 1000, 1)} s`);
 
     const port = await freePort();
-    service = startProcess(serviceMain, {
-      NODE_ENV: 'production',
-      LOG_LEVEL: 'warn',
-      HOST: '127.0.0.1',
-      PORT: String(port),
-      DATABASE_URL: database.server.url,
-      DATABASE_MIGRATION_URL: database.server.ownerUrl,
-    });
+    service = startProcess(serviceMain, serviceEnv(port, database.server));
     const child = service;
     await waitForOk(`http://127.0.0.1:${port}/health/ready`).catch((err: Error) => {
       throw new Error(`${err.message}\n${child.stderr()}`);

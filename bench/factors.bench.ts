@@ -32,7 +32,7 @@ import path from 'node:path';
 import { freePort } from '@registry/data';
 
 import { FactorLookupRepository } from '../apps/api/src/factors/factor-lookup.repository';
-import { type LoadResult, load, portFromStdout, startProcess, stopProcess, waitForOk } from './support/factors-load';
+import { type LoadResult, load, portFromStdout, startProcess, stopProcess, waitForOk, serviceEnv } from './support/factors-load';
 import { openBenchDatabase, repoRoot } from './support/bench-database';
 import { type Pair, lookupPlan, seedFactorBench } from './support/factors-seed';
 import { factorTargets } from './support/factor-targets';
@@ -123,15 +123,10 @@ async function main(): Promise<void> {
     console.log(`lookup plan (by ids):\n  ${plan.join('\n  ')}\n`);
 
     const servicePort = await freePort();
-    const service = startProcess(serviceMain, {
-      NODE_ENV: 'production',
-      LOG_LEVEL: 'info',
-      HOST: '127.0.0.1',
-      PORT: String(servicePort),
-      DATABASE_URL: database.server.url,
-      DATABASE_MIGRATION_URL: database.server.ownerUrl,
-      DB_POOL_MAX: String(SETTINGS.poolMax),
-    });
+    const service = startProcess(
+      serviceMain,
+      serviceEnv(servicePort, database.server, { LOG_LEVEL: 'info', DB_POOL_MAX: String(SETTINGS.poolMax) }),
+    );
     children.push(service);
     await waitForOk(`http://127.0.0.1:${servicePort}/health/ready`).catch((err: Error) => {
       throw new Error(`${err.message}\n${service.stderr()}`);

@@ -23,7 +23,7 @@ import { createApp } from '../apps/api/src/app.factory';
 import { parseConfig } from '../apps/api/src/config/config.schema';
 import { createLogger } from '../apps/api/src/logging';
 import { planBatteryRequests, planWorld } from './support/plan-battery';
-import { planRequests, populatedLargeTables } from './support/query-plans';
+import { injectInto, planRequests, populatedLargeTables } from './support/query-plans';
 import { findRepoRoot, formatTable, gitCommit, machineInfo, writeResults } from './support/report';
 
 async function main(): Promise<void> {
@@ -60,15 +60,7 @@ async function main(): Promise<void> {
     await fastify.ready();
     await owner.query('ANALYZE');
     const world = await planWorld(owner, seed.credentialKey);
-    const send = async (r: { method: 'GET' | 'POST'; path: string; headers: Record<string, string>; body?: unknown }) =>
-      (
-        await fastify.inject({
-          method: r.method,
-          url: r.path,
-          headers: r.headers,
-          ...(r.body === undefined ? {} : { payload: r.body as object }),
-        })
-      ).statusCode;
+    const send = injectInto(fastify);
     const requests = planBatteryRequests(world);
     // A first round warms the caches; the second is timed and explained.
     for (const r of requests) await send(r);

@@ -40,7 +40,6 @@ import path from 'node:path';
 import { freePort, openDatabaseServer } from '@registry/data';
 import { Client } from 'pg';
 
-import { newSessionToken } from '../apps/api/src/auth/tokens';
 import { FactorLookupRepository } from '../apps/api/src/factors/factor-lookup.repository';
 import { type FactorPair, factorTargets } from './support/factor-targets';
 import {
@@ -53,8 +52,11 @@ import {
   startProcess,
   stopProcess,
   waitForOk,
+  serviceEnv,
 } from './support/factors-load';
 import { lookupPlan } from './support/factors-seed';
+import { sessionsFor } from './support/plan-battery';
+import { LISTED_KINDS, LIST_SORTS, pipetteRunBody } from './support/workload';
 import { findRepoRoot, formatTable, gitCommit, machineInfo, loadAverage1m, writeResults } from './support/report';
 
 const int = (name: string, fallback: number) => {
@@ -86,11 +88,6 @@ const SETTINGS = {
 const runs = (part: string) => SETTINGS.only.length === 0 || SETTINGS.only.includes(part);
 const TARGETS = { factorRatio: 0.5, factorP99Ms: 25, submissionP99Ms: 100, dueScanS: 2, importS: 5, atConnections: 64 };
 const FACTOR_IDS = ['current-by-ids', 'current-by-tag-email', 'corrections'];
-const LISTED_KINDS = ['one-mark-pipette', 'volumetric-flask', 'burette', 'graduated-pipette', 'piston-pipette-variable'];
-const LIST_SORTS = ['assetTag', '-updatedAt', 'nominalVolumeMl', 'createdAt'];
-/** Net masses of a 25 mL pipette's deliveries, g (about 25.04 mL at 20 °C). */
-const NETS_G = ['24.9603', '24.9587', '24.9621', '24.9598', '24.9612', '24.9579', '24.9606', '24.9594', '24.9617', '24.9590'];
-
 interface SeedFile {
   readonly size: string;
   readonly database: { readonly embedded: boolean; readonly dataDir?: string };
@@ -122,20 +119,6 @@ function readSeed(root: string): SeedFile {
     });
   }
   return JSON.parse(readFileSync(file, 'utf8')) as SeedFile;
-}
-
-/** Sessions (12 h) for people, written as the sign-in would write them. */
-async function sessionsFor(db: Client, personIds: readonly string[]): Promise<Map<string, string>> {
-  const tokens = new Map<string, string>();
-  for (const id of personIds) {
-    const { token, hash } = newSessionToken();
-    await db.query(`INSERT INTO sessions (person_id, token_hash, expires_at) VALUES ($1, $2, now() + interval '12 hours')`, [
-      id,
-      Buffer.from(hash),
-    ]);
-    tokens.set(id, token);
-  }
-  return tokens;
 }
 
 /** The sample pairs the lookup answers now: an active person, a vessel in service, a current factor not about to expire. */
@@ -220,30 +203,7 @@ function registryTargets(kits: readonly LabKit[], servicePort: number): (LoadTar
       headers: { 'content-type': 'application/json' },
       next: () => {
         const kit = pickFrom(kits);
-        const body = {
-          vesselId: pickFrom(kit.pipetteIds),
-          balanceId: kit.balanceId,
-          thermometerId: kit.thermometerId,
-          performedAt: new Date(Date.now() - 3_600_000).toISOString(),
-          airConditions: { temperatureC: '20.6', pressurePa: '100840', relativeHumidityPercent: '43' },
-          uncertainties: {
-            balanceCalibrationG: '0.0002',
-            balanceResolutionG: '0.0001',
-            waterTemperatureC: '0.05',
-            airDensityKgPerM3: '0.005',
-            meniscusMl: '0.005',
-            evaporationMl: '0',
-          },
-          points: [
-            {
-              replicates: NETS_G.map((net) => ({
-                beforeG: '48.2031',
-                afterG: (48.2031 + Number(net)).toFixed(4),
-                waterTemperatureC: '20.5',
-              })),
-            },
-          ],
-        };
+        const body = pipetteRunBody(kit, pickFrom(kit.pipetteIds), new Date(Date.now() - 3_600_000));
         return {
           path: '/v1/calibrations',
           body: JSON.stringify(body),
@@ -394,20 +354,15 @@ async function main(): Promise<void> {
     );
     console.log(`factor lookup plan:\n  ${plan.join('\n  ')}\n`);
 
-    const serviceEnv = (port: number, scheduler: boolean) => ({
-      NODE_ENV: 'production',
-      LOG_LEVEL: 'warn',
-      HOST: '127.0.0.1',
-      PORT: String(port),
-      DATABASE_URL: server.url,
-      DATABASE_MIGRATION_URL: server.ownerUrl,
-      DB_POOL_MAX: String(SETTINGS.poolMax),
-      SCHEDULER_ENABLED: String(scheduler),
-      SCHEDULER_PERIOD_SECONDS: '5',
-      DELIVERY_WORKER_PERIOD_MS: '0',
-    });
+    const envFor = (port: number, scheduler: boolean) =>
+      serviceEnv(port, server, {
+        DB_POOL_MAX: String(SETTINGS.poolMax),
+        SCHEDULER_ENABLED: String(scheduler),
+        SCHEDULER_PERIOD_SECONDS: '5',
+        DELIVERY_WORKER_PERIOD_MS: '0',
+      });
     const servicePort = await freePort();
-    const service = startProcess(serviceMain, serviceEnv(servicePort, false));
+    const service = startProcess(serviceMain, envFor(servicePort, false));
     children.push(service);
     await waitForOk(`http://127.0.0.1:${servicePort}/health/ready`, 120_000).catch((err: Error) => {
       throw new Error(`${err.message}\n${service.stderr()}`);
@@ -468,7 +423,7 @@ async function main(): Promise<void> {
     }
     const serviceMemory = memory.stop();
     await stopProcess(service.child);
-    const dueScan = runs('due-scan') ? await timeDueScan(db, (port) => startProcess(serviceMain, serviceEnv(port, true)), children) : null;
+    const dueScan = runs('due-scan') ? await timeDueScan(db, (port) => startProcess(serviceMain, envFor(port, true)), children) : null;
 
     const at = byConnections[String(TARGETS.atConnections)] ?? byConnections[String(SETTINGS.connections.at(-1))] ?? [];
     const bareAt = at[0] as LoadResult;

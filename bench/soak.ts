@@ -46,7 +46,7 @@ import { rssTrend, sampleHeap, sampleRss } from './soak/memory';
 import { P99_TARGETS_MS, summarize, verdict } from './soak/summary';
 import { soakWorld } from './soak/world';
 import { openBenchDatabase } from './support/bench-database';
-import { startProcess, stopProcess, waitForOk } from './support/factors-load';
+import { startProcess, stopProcess, waitForOk, serviceEnv } from './support/factors-load';
 import { findRepoRoot, formatTable, gitCommit, loadAverage1m, machineInfo, writeResults } from './support/report';
 
 const positive = (name: string, fallback: number) => {
@@ -108,17 +108,14 @@ async function main(): Promise<void> {
     const world = await soakWorld(owner, seeded.credentialKey);
 
     const port = await freePort();
-    service = startProcess(serviceMain, {
-      NODE_ENV: 'production',
-      LOG_LEVEL: 'warn',
-      HOST: '127.0.0.1',
-      PORT: String(port),
-      DATABASE_URL: database.server.url,
-      DATABASE_MIGRATION_URL: database.server.ownerUrl,
-      DB_POOL_MAX: String(SETTINGS.poolMax),
-      SCHEDULER_ENABLED: 'false',
-      DELIVERY_WORKER_PERIOD_MS: '0',
-    });
+    service = startProcess(
+      serviceMain,
+      serviceEnv(port, database.server, {
+        DB_POOL_MAX: String(SETTINGS.poolMax),
+        SCHEDULER_ENABLED: 'false',
+        DELIVERY_WORKER_PERIOD_MS: '0',
+      }),
+    );
     const baseUrl = `http://127.0.0.1:${port}`;
     await waitForOk(`${baseUrl}/health/ready`, 120_000).catch((err: Error) => {
       throw new Error(`${err.message}\n${service?.stderr()}`);

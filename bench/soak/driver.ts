@@ -1,6 +1,7 @@
 import { randomUUID } from 'node:crypto';
 
-import type { SoakLab, SoakWorld } from './world';
+import { LISTED_KINDS, LIST_SORTS, pipetteRunBody } from '../support/workload';
+import type { SoakWorld } from './world';
 
 /**
  * Mixed traffic of a busy registry from `connections` async clients on loopback, until the
@@ -93,23 +94,6 @@ export interface DriverResult {
   readonly unexpected: Unexpected[];
 }
 
-const LISTED_KINDS = ['one-mark-pipette', 'volumetric-flask', 'burette', 'graduated-pipette', 'piston-pipette-variable'];
-const LIST_SORTS = ['assetTag', '-updatedAt', 'nominalVolumeMl', 'createdAt'];
-/**
- * Net masses of ten deliveries of a 25 mL class A pipette, g: with water at 20 °C and air at
- * 20 °C and 101.3 kPa (Z about 1.0029 mL/g, ISO 4787 table) the mean is about 25.017 mL, inside
- * the ±0.03 mL of class A (ISO 648), so each run passes and its approval issues a factor.
- */
-const NETS_G = ['24.9440', '24.9452', '24.9431', '24.9460', '24.9447', '24.9438', '24.9455', '24.9442', '24.9449', '24.9436'];
-const AIR_20C = { temperatureC: '20', pressurePa: '101300', relativeHumidityPercent: '50' };
-const UNCERTAINTIES = {
-  balanceCalibrationG: '0.0002',
-  balanceResolutionG: '0.0001',
-  waterTemperatureC: '0.05',
-  airDensityKgPerM3: '0.005',
-  meniscusMl: '0.005',
-  evaporationMl: '0',
-};
 const MAX_UNEXPECTED = 50;
 
 const pick = <T>(items: readonly T[]): T => items[Math.floor(Math.random() * items.length)] as T;
@@ -122,27 +106,6 @@ function drawer(mix: Readonly<Record<Work, number>>): () => Work {
     let r = Math.random() * total;
     for (const [work, w] of entries) if ((r -= w) < 0) return work;
     return (entries.at(-1) as [Work, number])[0];
-  };
-}
-
-/** A 25 mL pipette run of ten replicates, performed a minute ago, on the lab's balance and thermometer. */
-export function pipetteRunBody(lab: SoakLab, vesselId: string, performedAt: Date) {
-  return {
-    vesselId,
-    balanceId: lab.balanceId,
-    thermometerId: lab.thermometerId,
-    performedAt: performedAt.toISOString(),
-    airConditions: AIR_20C,
-    uncertainties: UNCERTAINTIES,
-    points: [
-      {
-        replicates: NETS_G.map((net) => ({
-          beforeG: '40.0000',
-          afterG: (40 + Number(net)).toFixed(4),
-          waterTemperatureC: '20.0',
-        })),
-      },
-    ],
   };
 }
 

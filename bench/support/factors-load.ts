@@ -152,6 +152,23 @@ export async function openLoop(target: LoadTarget, ratePerS: number, durationS: 
   };
 }
 
+/** The environment benchmarks start the service with: production, loopback only, on `db`; `extra` adds or overrides. */
+export function serviceEnv(
+  port: number,
+  db: { readonly url: string; readonly ownerUrl: string },
+  extra: Record<string, string> = {},
+): Record<string, string> {
+  return {
+    NODE_ENV: 'production',
+    LOG_LEVEL: 'warn',
+    HOST: '127.0.0.1',
+    PORT: String(port),
+    DATABASE_URL: db.url,
+    DATABASE_MIGRATION_URL: db.ownerUrl,
+    ...extra,
+  };
+}
+
 /**
  * How `npm start` and the Dockerfile run the service (two malloc arenas), applied to every
  * server a benchmark starts so the figures are production's.

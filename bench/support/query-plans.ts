@@ -191,6 +191,26 @@ export interface RequestPlans {
   readonly statements: readonly StatementPlan[];
 }
 
+/** Fastify's `inject` as the sender of planRequests: in process, no socket. */
+export function injectInto(fastify: {
+  inject(options: {
+    method: 'GET' | 'POST';
+    url: string;
+    headers: Record<string, string>;
+    payload?: object;
+  }): Promise<{ statusCode: number }>;
+}): (r: BatteryRequest) => Promise<number> {
+  return async (r) =>
+    (
+      await fastify.inject({
+        method: r.method,
+        url: r.path,
+        headers: r.headers,
+        ...(r.body === undefined ? {} : { payload: r.body as object }),
+      })
+    ).statusCode;
+}
+
 /**
  * Sends each request (one at a time, through `send`) while recording, then explains every
  * distinct read statement each one sent. `explainDb` is where the plans are asked for: set its

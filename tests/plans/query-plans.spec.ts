@@ -1,14 +1,7 @@
 import { Client } from 'pg';
 
 import { planBatteryRequests, planWorld } from '../../bench/support/plan-battery';
-import {
-  type BatteryRequest,
-  LARGE_TABLES,
-  type PlanNode,
-  planRequests,
-  type RequestPlans,
-  tableScans,
-} from '../../bench/support/query-plans';
+import { injectInto, LARGE_TABLES, type PlanNode, planRequests, type RequestPlans, tableScans } from '../../bench/support/query-plans';
 import { seedRegistry } from '../../bench/seed/run';
 import { SIZES } from '../../bench/seed/sizes';
 import { startTestApp, type TestApp } from '../support/test-app';
@@ -45,15 +38,7 @@ describe('query plans of the hot paths', () => {
     const world = await planWorld(db, seeded.credentialKey);
     await db.query('SET enable_seqscan = off');
     const fastify = t.app.getHttpAdapter().getInstance();
-    const send = async (r: BatteryRequest) =>
-      (
-        await fastify.inject({
-          method: r.method,
-          url: r.path,
-          headers: r.headers,
-          ...(r.body === undefined ? {} : { payload: r.body as object }),
-        })
-      ).statusCode;
+    const send = injectInto(fastify);
     results = await planRequests(planBatteryRequests(world), send, db);
   }, 180_000);
   afterAll(async () => {

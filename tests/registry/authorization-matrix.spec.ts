@@ -1,11 +1,11 @@
 import { randomBytes } from 'node:crypto';
-import { subscribe, unsubscribe } from 'node:diagnostics_channel';
 
 import { sha256 } from '../../apps/api/src/auth/tokens';
 import { EXAMPLES } from '../../apps/api/src/calculations/calculations.examples';
 import { ACCURACY_CLASSES, VESSEL_KINDS } from '@registry/metrology';
 import { bearer, seedBalance, seedCredential, seedInstrument, seedPerson, seedReferenceWeight, seedVessel } from '../support/factories';
 import { startTestApp } from '../support/test-app';
+import { withRegisteredRoutes } from '../support/registered-routes';
 import { seedFailedDelivery, seedWebhook, TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
 import { type Caller, CALLERS, buildWorld, fresh, NEW_PASSWORD, PASSWORD, type World } from './authorization-world';
 
@@ -322,24 +322,12 @@ const OUTSIDERS: readonly Caller[] = ['otherManager', 'otherLabCredential'];
 
 describe('authorization matrix', () => {
   let w: World;
-  const appRoutes = new Set<string>();
+  let appRoutes: ReadonlySet<string> = new Set();
 
   beforeAll(async () => {
-    // Fastify announces each new instance; its onRoute hook then sees every route as it is added.
-    const collect = (message: unknown) => {
-      const { fastify } = message as {
-        fastify: { addHook(name: 'onRoute', hook: (route: { method: string | string[]; url: string }) => void): void };
-      };
-      fastify.addHook('onRoute', (route) => {
-        for (const method of [route.method].flat()) if (method !== 'HEAD' && method !== 'OPTIONS') appRoutes.add(`${method} ${route.url}`);
-      });
-    };
-    subscribe('fastify.initialization', collect);
-    try {
-      w = await buildWorld(await startTestApp({ WEBHOOK_SECRET_KEY: TEST_WEBHOOK_KEY }));
-    } finally {
-      unsubscribe('fastify.initialization', collect);
-    }
+    const started = await withRegisteredRoutes(() => startTestApp({ WEBHOOK_SECRET_KEY: TEST_WEBHOOK_KEY }));
+    appRoutes = started.routes;
+    w = await buildWorld(started.result);
   }, 60_000);
   afterAll(() => w.t.close());
 

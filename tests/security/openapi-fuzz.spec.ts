@@ -1,11 +1,10 @@
-import { subscribe, unsubscribe } from 'node:diagnostics_channel';
-
 import fc from 'fast-check';
 
 import { TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
 import { Big, type Hostile, hostileQueryValue, textOf, toJsonText } from '../registry/hostile-input.arbitraries';
 import { bearer } from '../support/factories';
 import { startTestApp } from '../support/test-app';
+import { withRegisteredRoutes } from '../support/registered-routes';
 import { type FuzzWorld, fuzzWorld, tableSnapshot } from './fuzz-world';
 import { type JsonSchema, mutated, type Operation, operationsOf, SchemaArbitraries } from './openapi-arbitraries';
 
@@ -177,23 +176,12 @@ describe('fuzzing every documented operation', () => {
   const statuses = new Map<string, number[]>();
 
   /** Every route Fastify registered (collected as the app starts), to hold the document to. */
-  const appRoutes = new Set<string>();
+  let appRoutes: ReadonlySet<string> = new Set();
 
   beforeAll(async () => {
-    const collect = (message: unknown) => {
-      const { fastify } = message as {
-        fastify: { addHook(name: 'onRoute', hook: (route: { method: string | string[]; url: string }) => void): void };
-      };
-      fastify.addHook('onRoute', (route) => {
-        for (const method of [route.method].flat()) if (method !== 'HEAD' && method !== 'OPTIONS') appRoutes.add(`${method} ${route.url}`);
-      });
-    };
-    subscribe('fastify.initialization', collect);
-    try {
-      w = await fuzzWorld(await startTestApp({ WEBHOOK_SECRET_KEY: TEST_WEBHOOK_KEY }));
-    } finally {
-      unsubscribe('fastify.initialization', collect);
-    }
+    const started = await withRegisteredRoutes(() => startTestApp({ WEBHOOK_SECRET_KEY: TEST_WEBHOOK_KEY }));
+    appRoutes = started.routes;
+    w = await fuzzWorld(started.result);
     const doc = await w.openApi();
     ops = operationsOf(doc);
     arbs = new SchemaArbitraries(doc, w.ids);
