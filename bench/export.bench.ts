@@ -21,8 +21,7 @@
  * Settings: EXPORT_BENCH_ROWS (1000000), EXPORT_BENCH_ROUNDS (2), DATABASE_URL (external server;
  * needs CREATEDB).
  */
-import { execFileSync } from 'node:child_process';
-import { existsSync, mkdirSync, renameSync, writeFileSync } from 'node:fs';
+import { existsSync } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import http from 'node:http';
 import os from 'node:os';
@@ -34,7 +33,8 @@ import { to as copyTo } from 'pg-copy-streams';
 
 import { newSessionToken } from '../apps/api/src/auth/tokens';
 import { CALIBRATION_LOG_SQL } from '../apps/api/src/exports/report-sql';
-import { openBenchDatabase, repoRoot } from './support/bench-database';
+import { openBenchDatabase } from './support/bench-database';
+import { findRepoRoot, gitCommit, writeResults } from './support/report';
 import { memoryOf, startProcess, stopProcess, waitForOk, serviceEnv } from './support/factors-load';
 
 const int = (name: string, fallback: number) => {
@@ -191,29 +191,9 @@ async function timeService(
 
 const fmt = (n: number, digits = 0) => n.toLocaleString('en-US', { maximumFractionDigits: digits, minimumFractionDigits: digits });
 
-function writeResults(dir: string, report: { startedAt: string }): string[] {
-  mkdirSync(dir, { recursive: true });
-  const json = `${JSON.stringify(report, (_k, v: unknown) => (typeof v === 'number' && !Number.isInteger(v) ? Number(v.toPrecision(4)) : v), 2)}\n`;
-  return [`export-${report.startedAt.slice(0, 10)}.json`, 'export-latest.json'].map((file) => {
-    const target = path.join(dir, file);
-    const tmp = `${target}.${process.pid}.tmp`;
-    writeFileSync(tmp, json);
-    renameSync(tmp, target);
-    return target;
-  });
-}
-
-function gitHead(cwd: string): string | null {
-  try {
-    return execFileSync('git', ['rev-parse', 'HEAD'], { cwd, encoding: 'utf8', stdio: ['ignore', 'pipe', 'ignore'] }).trim();
-  } catch {
-    return null;
-  }
-}
-
 async function main(): Promise<void> {
   const startedAt = new Date().toISOString();
-  const root = repoRoot(__dirname);
+  const root = findRepoRoot(__dirname);
   const serviceMain = path.join(root, 'dist', 'apps', 'api', 'src', 'main.js');
   if (!existsSync(serviceMain)) throw new Error(`${serviceMain} is missing: run npm run build first`);
   const cpus = os.cpus();
@@ -304,7 +284,7 @@ async function main(): Promise<void> {
     const report = {
       benchmark: 'export',
       startedAt,
-      gitCommit: gitHead(root),
+      gitCommit: gitCommit(root),
       machine: {
         cpuModel: cpus[0]?.model.trim() ?? 'unknown',
         cores: cpus.length,
@@ -321,7 +301,7 @@ async function main(): Promise<void> {
       recorded,
       targets: checks,
     };
-    const files = writeResults(path.join(root, 'bench', 'results'), report);
+    const files = writeResults(path.join(root, 'bench', 'results'), 'export', report);
     console.log(`\nwrote ${files.map((f) => path.relative(root, f)).join(' and ')}`);
     if (!sameRows || recorded?.state !== 'completed') process.exitCode = 1;
   } finally {

@@ -23,8 +23,7 @@
  * request (Linux): on a shared or busy machine throughput swings with other load, CPU per
  * request much less. The load average at start and end is recorded for the same reason.
  */
-import { execFileSync } from 'node:child_process';
-import { existsSync, mkdirSync, renameSync, writeFileSync } from 'node:fs';
+import { existsSync } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import os from 'node:os';
 import path from 'node:path';
@@ -33,7 +32,8 @@ import { freePort } from '@registry/data';
 
 import { FactorLookupRepository } from '../apps/api/src/factors/factor-lookup.repository';
 import { type LoadResult, load, portFromStdout, startProcess, stopProcess, waitForOk, serviceEnv } from './support/factors-load';
-import { openBenchDatabase, repoRoot } from './support/bench-database';
+import { openBenchDatabase } from './support/bench-database';
+import { findRepoRoot, gitCommit, writeResults } from './support/report';
 import { type Pair, lookupPlan, seedFactorBench } from './support/factors-seed';
 import { factorTargets } from './support/factor-targets';
 
@@ -81,21 +81,9 @@ function table(results: readonly LoadResult[], bare: LoadResult): string {
   return [line(header), widths.map((w) => '-'.repeat(w)).join('  '), ...rows.map(line)].join('\n');
 }
 
-function writeResults(dir: string, report: { startedAt: string }): string[] {
-  mkdirSync(dir, { recursive: true });
-  const json = `${JSON.stringify(report, (_k, v: unknown) => (typeof v === 'number' && !Number.isInteger(v) ? Number(v.toPrecision(4)) : v), 2)}\n`;
-  return [`factors-${report.startedAt.slice(0, 10)}.json`, 'factors-latest.json'].map((file) => {
-    const target = path.join(dir, file);
-    const tmp = `${target}.${process.pid}.tmp`;
-    writeFileSync(tmp, json);
-    renameSync(tmp, target);
-    return target;
-  });
-}
-
 async function main(): Promise<void> {
   const startedAt = new Date().toISOString();
-  const root = repoRoot(__dirname);
+  const root = findRepoRoot(__dirname);
   const serviceMain = path.join(root, 'dist', 'apps', 'api', 'src', 'main.js');
   const bareMain = path.join(root, 'dist', 'bench', 'support', 'bare-server.js');
   if (!existsSync(serviceMain)) throw new Error(`${serviceMain} is missing: run npm run build first`);
@@ -185,7 +173,7 @@ async function main(): Promise<void> {
     const report = {
       benchmark: 'factors',
       startedAt,
-      gitCommit: gitHead(root),
+      gitCommit: gitCommit(root),
       machine: {
         cpuModel: cpus[0]?.model.trim() ?? 'unknown',
         cores: cpus.length,
@@ -204,21 +192,13 @@ async function main(): Promise<void> {
       ),
       targets: checks,
     };
-    const files = writeResults(path.join(root, 'bench', 'results'), report);
+    const files = writeResults(path.join(root, 'bench', 'results'), 'factors', report);
     console.log(`\nwrote ${files.map((f) => path.relative(root, f)).join(' and ')}`);
     if (checks.some((c) => c.id.endsWith('-errors') && !c.pass)) process.exitCode = 1;
   } finally {
     for (const c of children) await stopProcess(c.child);
     await database.close();
     await rm(tmp, { recursive: true, force: true });
-  }
-}
-
-function gitHead(cwd: string): string | null {
-  try {
-    return execFileSync('git', ['rev-parse', 'HEAD'], { cwd, encoding: 'utf8', stdio: ['ignore', 'pipe', 'ignore'] }).trim();
-  } catch {
-    return null;
   }
 }
 

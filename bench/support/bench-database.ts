@@ -1,20 +1,8 @@
 import { randomBytes } from 'node:crypto';
-import { existsSync } from 'node:fs';
 import path from 'node:path';
 
 import { type DatabaseServer, openDatabaseServer } from '@registry/data';
 import { Client } from 'pg';
-
-/** The folder holding package.json above `from` (benchmarks run from dist/ as well as from source). */
-export function repoRoot(from: string): string {
-  let dir = path.resolve(from);
-  while (!existsSync(path.join(dir, 'package.json'))) {
-    const parent = path.dirname(dir);
-    if (parent === dir) throw new Error(`no package.json above ${from}`);
-    dir = parent;
-  }
-  return dir;
-}
 
 /** A fresh database: a new one on the DATABASE_URL server (dropped on close), or an embedded server in a temporary folder. */
 export async function openBenchDatabase(tmp: string): Promise<{ server: DatabaseServer; close: () => Promise<void> }> {
