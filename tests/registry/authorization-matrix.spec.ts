@@ -3,7 +3,16 @@ import { randomBytes } from 'node:crypto';
 import { sha256 } from '../../apps/api/src/auth/tokens';
 import { EXAMPLES } from '../../apps/api/src/calculations/calculations.examples';
 import { ACCURACY_CLASSES, VESSEL_KINDS } from '@registry/metrology';
-import { bearer, seedBalance, seedCredential, seedInstrument, seedPerson, seedReferenceWeight, seedVessel } from '../support/factories';
+import {
+  bearer,
+  seedBalance,
+  seedCompletedExport,
+  seedCredential,
+  seedInstrument,
+  seedPerson,
+  seedReferenceWeight,
+  seedVessel,
+} from '../support/factories';
 import { startTestApp } from '../support/test-app';
 import { withRegisteredRoutes } from '../support/registered-routes';
 import { seedFailedDelivery, seedWebhook, TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
@@ -172,27 +181,7 @@ async function seedFeed(w: World): Promise<{ id: string; token: string }> {
 
 /** A completed export of lab A, straight into the database. */
 async function seedExport(w: World): Promise<string> {
-  const at = new Date('2026-06-30T12:00:00Z');
-  const e = await w.prisma.export.create({
-    data: {
-      report: 'calibration-log',
-      format: 'csv',
-      requestedById: w.people.admin.id,
-      allLabs: false,
-      labIds: [w.labA],
-      periodFrom: new Date('2026-01-01T00:00:00Z'),
-      periodTo: at,
-      asOf: at,
-      parameters: {},
-      state: 'completed',
-      startedAt: at,
-      endedAt: at,
-      rowCount: 0n,
-      byteCount: 10n,
-      sha256: new Uint8Array(randomBytes(32)),
-    },
-  });
-  return e.id;
+  return (await seedCompletedExport(w.prisma, w.people.admin.id, w.labA)).id;
 }
 
 // prettier-ignore

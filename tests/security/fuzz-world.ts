@@ -3,7 +3,7 @@ import { randomBytes } from 'node:crypto';
 import { sha256 } from '../../apps/api/src/auth/tokens';
 import { seedFailedDelivery, seedWebhook } from '../delivery/delivery-support';
 import { hostileWorld } from '../registry/hostile-input.world';
-import { bearer, seedBalance, seedCredential, seedPerson, sessionFor } from '../support/factories';
+import { bearer, seedBalance, seedCompletedExport, seedCredential, seedPerson, sessionFor } from '../support/factories';
 import type { TestApp } from '../support/test-app';
 import type { IdPool, OpenApiDocument } from './openapi-arbitraries';
 
@@ -44,26 +44,7 @@ export async function fuzzWorld(t: TestApp) {
       createdById: people.manager.id,
     },
   });
-  const at = new Date('2026-06-30T12:00:00Z');
-  const exported = await prisma.export.create({
-    data: {
-      report: 'calibration-log',
-      format: 'csv',
-      requestedById: admin,
-      allLabs: false,
-      labIds: [labA],
-      periodFrom: new Date('2026-01-01T00:00:00Z'),
-      periodTo: at,
-      asOf: at,
-      parameters: {},
-      state: 'completed',
-      startedAt: at,
-      endedAt: at,
-      rowCount: 0n,
-      byteCount: 10n,
-      sha256: new Uint8Array(randomBytes(32)),
-    },
-  });
+  const exported = await seedCompletedExport(prisma, admin, labA);
   // A check recorded through the API (the factories' placeholder checks have no results to show).
   const checked = await seedBalance(prisma, labA);
   const recorded = await t.http

@@ -355,3 +355,27 @@ export async function seedBurette(prisma: PrismaClient, labId: string, overrides
     ...overrides,
   });
 }
+
+/** A completed calibration-log export of one lab (30 June 2026), straight into the database. */
+export async function seedCompletedExport(prisma: PrismaClient, requestedById: string, labId: string) {
+  const at = new Date('2026-06-30T12:00:00Z');
+  return prisma.export.create({
+    data: {
+      report: 'calibration-log',
+      format: 'csv',
+      requestedById,
+      allLabs: false,
+      labIds: [labId],
+      periodFrom: new Date('2026-01-01T00:00:00Z'),
+      periodTo: at,
+      asOf: at,
+      parameters: {},
+      state: 'completed',
+      startedAt: at,
+      endedAt: at,
+      rowCount: 0n,
+      byteCount: 10n,
+      sha256: new Uint8Array(randomBytes(32)),
+    },
+  });
+}
