@@ -119,6 +119,24 @@ describe('due dates', () => {
     w.clock.set(new Date('2026-12-01T07:00:00Z'));
   });
 
+  it('keeps due dates within the years 0001 to 9999 when recorded dates lie at those ends', async () => {
+    const lab = w.cast.lab.id;
+    // 9999-12-30 plus the 365-day default interval would be in year 10000; due soon 30 days earlier still is.
+    const late = await seedInstrument(w.prisma, lab, { calibrationDate: day('9999-12-30') });
+    // Due 0001-01-01 with the 30-day lead would be due soon in year 0, which no calendar date of the API can say.
+    const early = await seedCheckWeight(w.prisma, lab, { certificateDue: day('0001-01-01') });
+    // Midnight of 0001-01-01 in Vienna (UTC+01:05 local mean time then) is an instant in year 0 UTC.
+    const old = await seedBalance(w.prisma, lab, { externalCalibrationDate: day('0001-01-01') });
+    expect(await one(late.id)).toMatchObject({ dueOn: '9999-12-31', dueSoonOn: '9999-12-31', state: 'current', basis: 'interval' });
+    expect(await one(early.id)).toMatchObject({ dueOn: '0001-01-01', dueSoonOn: '0001-01-01', state: 'overdue', basis: 'certificate' });
+    expect(await one(old.id, 'balance-calibration')).toMatchObject({ lastDoneAt: '0001-01-01T00:00:00.000Z', basis: 'interval' });
+    // The scheduler announces the overdue weight with that date, and the notice list can show it.
+    await w.scheduler.runPass();
+    const notices = await w.get('/v1/notices', 'admin', { limit: '200' });
+    expect(notices.status).toBe(200);
+    expect(notices.body.items).toEqual(expect.arrayContaining([expect.objectContaining({ subjectId: early.id, dueOn: '0001-01-01' })]));
+  });
+
   it('gives each current factor a due date on its last valid day, seen by its holder and the lab’s managers only', async () => {
     const lab = w.cast.lab.id;
     const vessel = await seedVessel(w.prisma, lab);
