@@ -194,4 +194,30 @@ describe('balances, reference weights and instruments', () => {
         .expect(403);
     });
   });
+
+  describe('calibration dates', () => {
+    /** The calendar date in UTC+14, the easternmost zone: the latest date that is today somewhere. */
+    const easternmostToday = () => new Date(Date.now() + 14 * 3_600_000).toISOString().slice(0, 10);
+    const dayAfter = (d: string) => new Date(Date.parse(`${d}T00:00:00Z`) + 86_400_000).toISOString().slice(0, 10);
+
+    it.each([
+      ['/v1/balances', 'externalCalibrationDate', { capacityG: 220, readabilityG: '0.0001' }],
+      ['/v1/instruments', 'calibrationDate', { kind: 'thermometer' }],
+    ] as const)('%s refuses %s in the future on registration and on change, and takes today anywhere', async (path, field, rest) => {
+      const tag = (n: number) => `FUT-${field.length}-${n}`;
+      const future = await post(path, { assetTag: tag(1), ...rest, [field]: '9999-12-30' }).expect(400);
+      expect(future.body.errors).toEqual([{ field, reason: 'must not be in the future' }]);
+      await post(path, { assetTag: tag(2), ...rest, [field]: dayAfter(easternmostToday()) }).expect(400);
+      const today = await post(path, { assetTag: tag(3), ...rest, [field]: easternmostToday() }).expect(201);
+      expect(today.body[field]).toBe(easternmostToday());
+      const later = await patch(`${path}/${today.body.id}`, { [field]: '2999-01-01' }).expect(400);
+      expect(later.body.errors).toEqual([{ field, reason: 'must not be in the future' }]);
+      // Nothing was written by the refused requests.
+      expect((await t.http.get(`${path}/${today.body.id}`).set(bearer(cast.tokens.manager)).expect(200)).body).toMatchObject({
+        [field]: easternmostToday(),
+        version: 1,
+      });
+      expect((await t.http.get(path).set(bearer(cast.tokens.manager)).query({ q: 'FUT-' })).body.items).toHaveLength(1);
+    });
+  });
 });

@@ -27,7 +27,7 @@ const adjustmentWeightDensityKgPerM3 = storedQuantity(
   { precision: 10, scale: 3 },
 ).refine((v) => Number(v) >= 2000 && Number(v) <= 25000, { error: 'must be between 2000 and 25000 kg/m3' });
 const model = text(100, 'Maker and model', 'Analytical balance 220 g / 0.1 mg');
-const externalCalibrationDate = dateOnly('Date of the current external (accredited) calibration', '2026-01-14');
+const externalCalibrationDate = dateOnly('Date of the current external (accredited) calibration; not in the future', '2026-01-14');
 const externalCalibrationCertificate = text(100, 'Certificate number of that calibration', 'DKD-K-0815/2026-0113');
 const externalCalibrationProvider = text(200, 'Who calibrated it', 'Regional calibration service');
 const externalCalibrationDue = dateOnly('When the next external calibration is due (after the calibration date)', '2027-01-14');

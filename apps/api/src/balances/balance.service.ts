@@ -2,10 +2,11 @@ import { Injectable } from '@nestjs/common';
 import { Decimal } from '@registry/metrology';
 
 import type { RequestContext } from '../auth/actor';
+import { Clock } from '../common/clock';
 import type { Page } from '../common/pagination';
 import { invalid } from '../inventory/inventory.errors';
 import type { ListSpec } from '../inventory/inventory-list';
-import { assertDueAfter, mergePatch } from '../inventory/inventory-patch';
+import { assertDueAfter, assertNotFuture, mergePatch } from '../inventory/inventory-patch';
 import { InventoryWorkflow, type ResourceDef } from '../inventory/inventory-workflow';
 import { type BalanceRecord, BalanceRepository, type NewBalance } from './balance.repository';
 import type { BalanceListQuery, CreateBalance, UpdateBalance } from './balance.schemas';
@@ -54,6 +55,7 @@ export class BalanceService {
   constructor(
     private readonly workflow: InventoryWorkflow,
     private readonly balances: BalanceRepository,
+    private readonly clock: Clock,
   ) {}
 
   async create(ctx: RequestContext, body: CreateBalance): Promise<BalanceRecord> {
@@ -74,6 +76,7 @@ export class BalanceService {
       notes: body.notes ?? null,
     };
     check(balance);
+    assertNotFuture('externalCalibrationDate', balance.externalCalibrationDate, this.clock.now());
     return this.workflow.create(ctx, BALANCE, body.labId, (tx, now) => this.balances.insert(tx, balance, now));
   }
 
@@ -91,6 +94,7 @@ export class BalanceService {
       apply: (current, p) => {
         const next = mergePatch(current, p);
         check(next);
+        assertNotFuture('externalCalibrationDate', p.externalCalibrationDate, this.clock.now());
         return next;
       },
       write: (tx, balanceId, expected, changes, now) => this.balances.update(tx, balanceId, expected, changes, now),

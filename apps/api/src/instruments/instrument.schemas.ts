@@ -46,7 +46,7 @@ const humidityUncertaintyPercent = storedQuantity(
   '2',
   { precision: 7, scale: 3 },
 );
-const calibrationDate = dateOnly('Date of the current calibration', '2026-02-03');
+const calibrationDate = dateOnly('Date of the current calibration; not in the future', '2026-02-03');
 const certificateNumber = text(100, 'Calibration certificate number', 'TH-2026-0207');
 const calibrationDue = dateOnly('When the next calibration is due (after the calibration date)', '2027-02-03');
 

@@ -1,10 +1,11 @@
 import { Injectable } from '@nestjs/common';
 
 import type { RequestContext } from '../auth/actor';
+import { Clock } from '../common/clock';
 import type { Page } from '../common/pagination';
 import { DomainError } from '../common/problem/domain-error';
 import type { ListSpec } from '../inventory/inventory-list';
-import { assertDueAfter, mergePatch } from '../inventory/inventory-patch';
+import { assertDueAfter, assertNotFuture, mergePatch } from '../inventory/inventory-patch';
 import { InventoryWorkflow, type ResourceDef } from '../inventory/inventory-workflow';
 import { type InstrumentRecord, InstrumentRepository, type NewInstrument } from './instrument.repository';
 import {
@@ -66,6 +67,7 @@ export class InstrumentService {
   constructor(
     private readonly workflow: InventoryWorkflow,
     private readonly instruments: InstrumentRepository,
+    private readonly clock: Clock,
   ) {}
 
   create(ctx: RequestContext, body: CreateInstrument): Promise<InstrumentRecord> {
@@ -86,6 +88,7 @@ export class InstrumentService {
       notes: body.notes ?? null,
     };
     check(instrument);
+    assertNotFuture('calibrationDate', instrument.calibrationDate, this.clock.now());
     return this.workflow.create(ctx, INSTRUMENT, body.labId, (tx, now) => this.instruments.insert(tx, instrument, now));
   }
 
@@ -104,6 +107,7 @@ export class InstrumentService {
       apply: (current, p) => {
         const next = mergePatch(current, p);
         check(next);
+        assertNotFuture('calibrationDate', p.calibrationDate, this.clock.now());
         return next;
       },
       write: (tx, instrumentId, expected, changes, now) => this.instruments.update(tx, instrumentId, expected, changes, now),
