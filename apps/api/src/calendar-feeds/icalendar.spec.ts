@@ -27,4 +27,15 @@ describe('iCalendar text (RFC 5545)', () => {
     expect(text).toContain('DTSTART;VALUE=DATE:20261215\r\nDTEND;VALUE=DATE:20261216\r\n');
     expect(text).toContain('DTSTAMP:20261201T080000Z');
   });
+
+  it('writes an event on 9999-12-31 with no end, which RFC 5545 3.6.1 reads as that one day', () => {
+    const text = renderCalendar({
+      productId: '-//Test//EN',
+      name: 'DW-CHEM',
+      stamp: new Date('2026-12-01T08:00:00Z'),
+      events: [{ uid: 'weight-1-9999-12-31@test', date: '9999-12-31', summary: 'W-1 due', description: 'x' }],
+    });
+    expect(text).toContain('DTSTART;VALUE=DATE:99991231\r\nSUMMARY:W-1 due\r\n');
+    expect(text).not.toContain('DTEND');
+  });
 });

@@ -54,6 +54,8 @@ export function foldLine(line: string): string {
 }
 
 const basicDate = (day: string) => day.replace(/-/g, '');
+/** The last date the service stores and speaks (years 0001 to 9999). */
+const LAST_DAY = '9999-12-31';
 const nextDay = (day: string) => new Date(Date.parse(`${day}T00:00:00Z`) + 86_400_000).toISOString().slice(0, 10);
 const utcStamp = (at: Date) =>
   at
@@ -77,7 +79,8 @@ export function renderCalendar(doc: CalendarDocument): string {
       `UID:${e.uid}`,
       `DTSTAMP:${stamp}`,
       `DTSTART;VALUE=DATE:${basicDate(e.date)}`,
-      `DTEND;VALUE=DATE:${basicDate(nextDay(e.date))}`,
+      // The day after 9999-12-31 has no four-digit year: a DATE start with no end lasts that one day (3.6.1).
+      ...(e.date < LAST_DAY ? [`DTEND;VALUE=DATE:${basicDate(nextDay(e.date))}`] : []),
       `SUMMARY:${escapeText(e.summary)}`,
       `DESCRIPTION:${escapeText(e.description)}`,
       ...(e.categories?.length ? [`CATEGORIES:${e.categories.map(escapeText).join(',')}`] : []),
