@@ -119,6 +119,16 @@ describe('Idempotency-Key on writes', () => {
     expect(again.headers.etag).toBe('"v2"');
     expect((await t.database.prisma.vessel.findUniqueOrThrow({ where: { id: vessel.id } })).version).toBe(2);
     expect(await auditEntries(vessel.id, 'update')).toBe(1);
+    // The same key on the update against the new version is another request: refused, nothing changed.
+    const otherVersion = await t.http
+      .patch(`/v1/vessels/${vessel.id}`)
+      .set(bearer(cast.tokens.manager))
+      .set('if-match', '"v2"')
+      .set('idempotency-key', key)
+      .send({ location: 'Fume cupboard 2' })
+      .expect(422);
+    expect(otherVersion.body).toMatchObject({ code: 'idempotency-key-reused', errors: [{ field: 'Idempotency-Key' }] });
+    expect((await t.database.prisma.vessel.findUniqueOrThrow({ where: { id: vessel.id } })).version).toBe(2);
   });
 
   it('replays a 204 without a body (taking a person out of a lab twice)', async () => {

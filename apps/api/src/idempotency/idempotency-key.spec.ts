@@ -52,6 +52,17 @@ describe('requestFingerprint', () => {
     expect(requestFingerprint('POST', '/v1/vessels', { a: '1', b: { c: 'x', d: [1, 2] } }).equals(base)).toBe(false);
   });
 
+  it('differs by the If-Match precondition, and without one is as before', () => {
+    const body = { location: 'Fume cupboard 2' };
+    const v1 = requestFingerprint('PATCH', '/v1/vessels/1', body, '"v1"');
+    expect(requestFingerprint('PATCH', '/v1/vessels/1', body, ' "v1" ').equals(v1)).toBe(true);
+    expect(requestFingerprint('PATCH', '/v1/vessels/1', body, '"v2"').equals(v1)).toBe(false);
+    expect(requestFingerprint('PATCH', '/v1/vessels/1', body).equals(v1)).toBe(false);
+    expect(requestFingerprint('PATCH', '/v1/vessels/1', body, undefined).equals(requestFingerprint('PATCH', '/v1/vessels/1', body))).toBe(
+      true,
+    );
+  });
+
   it('refuses a body nested deeper than any request of the API instead of recursing into it', () => {
     let deep: unknown = 1;
     for (let i = 0; i < 10_000; i++) deep = [deep];

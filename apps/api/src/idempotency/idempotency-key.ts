@@ -30,13 +30,15 @@ export function parseIdempotencyKey(header: string | string[] | undefined): stri
 }
 
 /**
- * SHA-256 over what makes two requests the same: method, path with query, and the body
- * as canonical JSON (members sorted), so a client re-serialising the same body in
- * another member order is still sending the same request.
+ * SHA-256 over what makes two requests the same: method, path with query, the If-Match
+ * precondition when there is one, and the body as canonical JSON (members sorted), so a
+ * client re-serialising the same body in another member order is still sending the same
+ * request, while an update retried against another version is not.
  */
-export function requestFingerprint(method: string, url: string, body: unknown): Buffer {
+export function requestFingerprint(method: string, url: string, body: unknown, ifMatch?: string): Buffer {
   return createHash('sha256')
     .update(`${method.toUpperCase()}\n${url}\n`)
+    .update(ifMatch === undefined ? '' : `if-match ${ifMatch.trim()}\n`)
     .update(body === undefined ? '' : canonicalJson(body, 0))
     .digest();
 }

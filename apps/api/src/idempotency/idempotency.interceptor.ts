@@ -50,7 +50,11 @@ export class IdempotencyInterceptor implements NestInterceptor {
     };
     const outcome = this.idempotency.run(
       { callerKind: actor.kind, callerId: actor.id, key },
-      { method: request.method, path: request.url, hash: requestFingerprint(request.method, request.url, request.body) },
+      {
+        method: request.method,
+        path: request.url,
+        hash: requestFingerprint(request.method, request.url, request.body, ifMatchOf(request.headers['if-match'])),
+      },
       handle,
     );
     return from(outcome.then((o) => answer(o, reply)));
@@ -65,3 +69,6 @@ function answer(outcome: KeyedOutcome, reply: FastifyReply): unknown {
   void reply.header('idempotent-replayed', 'true');
   return response.body === null ? undefined : JSON.parse(response.body);
 }
+
+/** The If-Match header as one string (a repeated header joined as Fastify would list it). */
+const ifMatchOf = (header: string | string[] | undefined): string | undefined => (Array.isArray(header) ? header.join(', ') : header);

@@ -94,7 +94,7 @@ const inUse = () =>
 const reused = (method: string, path: string) =>
   new DomainError(
     'idempotency-key-reused',
-    `This ${IDEMPOTENCY_HEADER} was used for a different request (${method} ${path.split('?')[0]}, or another body); use a new key.`,
+    `This ${IDEMPOTENCY_HEADER} was used for a different request (${method} ${path.split('?')[0]}, or another body or If-Match); use a new key.`,
     [{ field: IDEMPOTENCY_HEADER, reason: 'was used for a different request' }],
   );
 
