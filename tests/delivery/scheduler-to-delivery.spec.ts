@@ -31,7 +31,14 @@ describe('from the scheduler to the webhook', () => {
 
   /** Another instance of the service on the same database (its own pool), as another process would run. */
   async function secondInstance(env: Record<string, string> = {}) {
-    const config = parseConfig({ NODE_ENV: 'test', LOG_LEVEL: 'warn', DATABASE_URL: t.testDatabase.appUrl, ...ENV, ...env });
+    const config = parseConfig({
+      NODE_ENV: 'test',
+      LOG_LEVEL: 'warn',
+      WEBHOOK_PRIVATE_TARGETS: 'allow',
+      DATABASE_URL: t.testDatabase.appUrl,
+      ...ENV,
+      ...env,
+    });
     const database = createDatabase({ databaseUrl: t.testDatabase.appUrl, poolMax: 5 });
     const sink = new Writable({ write: (_c, _e, done) => done() });
     const app = await createApp({ config, database, logger: createLogger(config, sink), clock });

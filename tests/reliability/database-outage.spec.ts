@@ -75,12 +75,14 @@ describe('when the database goes away under load and comes back', () => {
       SCHEDULER_PERIOD_SECONDS: '5',
       DELIVERY_WORKER_PERIOD_MS: '250',
       WEBHOOK_SECRET_KEY: TEST_WEBHOOK_KEY,
+      WEBHOOK_PRIVATE_TARGETS: 'allow',
     });
     // As main.ts builds it: the configured pool size and connect timeout, idle-connection errors only logged.
     database = createDatabase({
       databaseUrl: server.url,
       poolMax: 5,
       connectionTimeoutMs: config.database.connectTimeoutMs,
+      queryTimeoutMs: config.database.queryTimeoutMs,
       onPoolError: () => undefined,
     });
     const sink = new Writable({

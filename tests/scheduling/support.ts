@@ -59,7 +59,13 @@ export interface Instance {
  * `env` adds configuration (give it the same as `t`'s where the instances must agree, e.g. SMTP for e-mail deliveries).
  */
 export async function anotherInstance(t: TestApp, clock: ManualClock, env: Record<string, string> = {}): Promise<Instance> {
-  const config = parseConfig({ NODE_ENV: 'test', LOG_LEVEL: 'warn', ...env, DATABASE_URL: t.testDatabase.appUrl });
+  const config = parseConfig({
+    NODE_ENV: 'test',
+    LOG_LEVEL: 'warn',
+    WEBHOOK_PRIVATE_TARGETS: 'allow',
+    ...env,
+    DATABASE_URL: t.testDatabase.appUrl,
+  });
   const sink = new Writable({ write: (_c, _e, done) => done() });
   const database = createDatabase({ databaseUrl: t.testDatabase.appUrl, poolMax: 5 });
   const app = await createApp({ config, database, logger: createLogger(config, sink), clock });

@@ -26,7 +26,14 @@ export interface TestApp {
 /** The real application (same factory as main.ts) on a fresh database of its own. */
 export async function startTestApp(env: Partial<Record<keyof EnvInput, string>> = {}, options: { clock?: Clock } = {}): Promise<TestApp> {
   const testDatabase = await createTestDatabase();
-  const config = parseConfig({ NODE_ENV: 'test', LOG_LEVEL: 'info', ...env, DATABASE_URL: testDatabase.appUrl });
+  // Test webhook receivers listen on loopback, which a deployment refuses by default.
+  const config = parseConfig({
+    NODE_ENV: 'test',
+    LOG_LEVEL: 'info',
+    WEBHOOK_PRIVATE_TARGETS: 'allow',
+    ...env,
+    DATABASE_URL: testDatabase.appUrl,
+  });
   const logs: Record<string, unknown>[] = [];
   const sink = new Writable({
     write(chunk: Buffer, _enc, done) {

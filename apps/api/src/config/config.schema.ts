@@ -54,6 +54,10 @@ export const configSchema = z.object({
       error: 'must be 32 random bytes in base64 (openssl rand -base64 32)',
     })
     .optional(),
+  WEBHOOK_PRIVATE_TARGETS: z
+    .enum(['refuse', 'allow'], { error: 'must be refuse or allow' })
+    .default('refuse')
+    .transform((v) => v === 'allow'),
   SMTP_URL: z
     .string()
     .trim()
@@ -126,6 +130,8 @@ export interface DeliveryConfig {
   readonly timeoutMs: number;
   /** Base64 of the 32-byte key that seals webhook secrets; null = webhooks cannot be registered. */
   readonly webhookSecretKey: string | null;
+  /** Webhooks may target loopback, private and reserved addresses (a closed lab network); off by default. */
+  readonly allowPrivateTargets: boolean;
   /** null = no e-mail. */
   readonly smtp: { readonly url: string; readonly from: string } | null;
 }
@@ -182,6 +188,7 @@ export function parseConfig(source: Record<string, string | undefined>): AppConf
       retryMaxMs: Math.max(e.DELIVERY_RETRY_MAX_MS, e.DELIVERY_RETRY_BASE_MS),
       timeoutMs: e.DELIVERY_TIMEOUT_MS,
       webhookSecretKey: e.WEBHOOK_SECRET_KEY ?? null,
+      allowPrivateTargets: e.WEBHOOK_PRIVATE_TARGETS,
       smtp: e.SMTP_URL && e.MAIL_FROM ? { url: e.SMTP_URL, from: e.MAIL_FROM } : null,
     },
     idempotency: { ttlMs: e.IDEMPOTENCY_KEY_TTL_HOURS * 3_600_000, waitMs: e.IDEMPOTENCY_WAIT_SECONDS * 1000 },

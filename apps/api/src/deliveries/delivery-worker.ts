@@ -106,7 +106,11 @@ export class DeliveryWorker implements OnApplicationBootstrap, OnApplicationShut
   }
 
   private async send(d: ClaimedDelivery): Promise<SendResult> {
-    if (d.channel === 'webhook') return sendWebhook(d, this.secrets.current(), this.clock.now(), this.config.delivery.timeoutMs);
+    if (d.channel === 'webhook')
+      return sendWebhook(d, this.secrets.current(), this.clock.now(), {
+        timeoutMs: this.config.delivery.timeoutMs,
+        allowPrivateTargets: this.config.delivery.allowPrivateTargets,
+      });
     if (!this.mailer.configured) return { ok: false, statusCode: null, error: 'e-mail is not configured (SMTP_URL is unset)' };
     try {
       const content = composeNoticeMail({

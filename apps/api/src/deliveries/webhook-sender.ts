@@ -1,4 +1,8 @@
+import { request as httpRequest } from 'node:http';
+import { request as httpsRequest } from 'node:https';
+
 import type { SecretBox } from '../webhooks/secret-box';
+import { assertDeliverable, guardedLookup } from '../webhooks/webhook-targets';
 import { DELIVERY_HEADER, EVENT_HEADER, SIGNATURE_HEADER, signatureOf, TIMESTAMP_HEADER } from '../webhooks/webhook-signature';
 import type { ClaimedDelivery } from './delivery.repository';
 
@@ -32,11 +36,20 @@ export function webhookPayload(d: ClaimedDelivery, sentAt: Date): string {
   });
 }
 
+/** How an attempt is made: within the timeout, and whether loopback and private addresses may be reached. */
+export interface SendOptions {
+  readonly timeoutMs: number;
+  readonly allowPrivateTargets: boolean;
+}
+
 /**
  * One attempt: POST the signed JSON to the webhook's current URL, within the
- * timeout, without following redirects. Any 2xx answer is a delivery.
+ * timeout, without following redirects. Any 2xx answer is a delivery. Unless
+ * private targets are allowed, the address connected to must not be a
+ * loopback, private or reserved one (webhook-targets.ts), whatever the name
+ * resolved to at registration.
  */
-export async function sendWebhook(d: ClaimedDelivery, box: SecretBox | null, now: Date, timeoutMs: number): Promise<SendResult> {
+export async function sendWebhook(d: ClaimedDelivery, box: SecretBox | null, now: Date, options: SendOptions): Promise<SendResult> {
   if (d.webhookUrl === null || d.secretSealed === null || d.secretKeyRef === null || d.webhookId === null) {
     return { ok: false, statusCode: null, error: 'the webhook no longer exists', final: true };
   }
@@ -50,36 +63,55 @@ export async function sendWebhook(d: ClaimedDelivery, box: SecretBox | null, now
   }
   const body = webhookPayload(d, now);
   const timestamp = Math.floor(now.getTime() / 1000);
+  const headers = {
+    'content-type': 'application/json',
+    'user-agent': 'calibration-registry-webhooks/1',
+    [TIMESTAMP_HEADER]: String(timestamp),
+    [SIGNATURE_HEADER]: signatureOf(secret, timestamp, body),
+    [DELIVERY_HEADER]: d.id,
+    [EVENT_HEADER]: d.eventKind,
+  };
   try {
-    const res = await fetch(d.webhookUrl, {
-      method: 'POST',
-      redirect: 'manual',
-      signal: AbortSignal.timeout(timeoutMs),
-      headers: {
-        'content-type': 'application/json',
-        'user-agent': 'calibration-registry-webhooks/1',
-        [TIMESTAMP_HEADER]: String(timestamp),
-        [SIGNATURE_HEADER]: signatureOf(secret, timestamp, body),
-        [DELIVERY_HEADER]: d.id,
-        [EVENT_HEADER]: d.eventKind,
-      },
-      body,
-    });
-    await res.body?.cancel().catch(() => undefined);
-    if (res.status >= 200 && res.status < 300) return { ok: true, statusCode: res.status, error: null };
+    if (!options.allowPrivateTargets) assertDeliverable(d.webhookUrl);
+    const status = await post(d.webhookUrl, headers, body, options);
+    if (status >= 200 && status < 300) return { ok: true, statusCode: status, error: null };
     return {
       ok: false,
-      statusCode: res.status,
-      error: `the endpoint answered ${res.status}${res.status < 400 ? ' (redirects are not followed)' : ''}`,
+      statusCode: status,
+      error: `the endpoint answered ${status}${status < 400 ? ' (redirects are not followed)' : ''}`,
     };
   } catch (error) {
-    return { ok: false, statusCode: null, error: describeFetchError(error, timeoutMs) };
+    return { ok: false, statusCode: null, error: describeSendError(error, options.timeoutMs) };
   }
 }
 
-function describeFetchError(error: unknown, timeoutMs: number): string {
-  const e = error as { name?: string; message?: string; cause?: { code?: string; message?: string } };
-  if (e.name === 'TimeoutError' || e.name === 'AbortError') return `no answer within ${timeoutMs} ms`;
-  const cause = e.cause?.code ?? e.cause?.message;
-  return cause ? `could not connect: ${cause}` : `could not send: ${e.message ?? String(error)}`;
+/** POSTs the body and resolves with the answer's status once its headers arrive (the rest is discarded). */
+function post(url: string, headers: Record<string, string>, body: string, options: SendOptions): Promise<number> {
+  const send = url.startsWith('https:') ? httpsRequest : httpRequest;
+  return new Promise((resolve, reject) => {
+    const req = send(
+      url,
+      {
+        method: 'POST',
+        headers: { ...headers, 'content-length': String(Buffer.byteLength(body)) },
+        signal: AbortSignal.timeout(options.timeoutMs),
+        ...(options.allowPrivateTargets ? {} : { lookup: guardedLookup }),
+      },
+      (res) => {
+        // A body still arriving when the timeout aborts the request errors here: nothing waits for it.
+        res.on('error', () => undefined);
+        res.resume();
+        resolve(res.statusCode ?? 0);
+      },
+    );
+    req.on('error', reject);
+    req.end(body);
+  });
+}
+
+function describeSendError(error: unknown, timeoutMs: number): string {
+  const e = error as { name?: string; message?: string; code?: string; cause?: { name?: string } };
+  if (e.name === 'TimeoutError' || e.name === 'AbortError' || e.cause?.name === 'TimeoutError') return `no answer within ${timeoutMs} ms`;
+  if (e.name === 'PrivateTargetError') return `refused: ${e.message} (WEBHOOK_PRIVATE_TARGETS=allow permits it)`;
+  return e.code ? `could not connect: ${e.code}` : `could not send: ${e.message ?? String(error)}`;
 }

@@ -1,6 +1,6 @@
 import { randomUUID } from 'node:crypto';
 
-import { Injectable } from '@nestjs/common';
+import { Inject, Injectable } from '@nestjs/common';
 import { PrismaClient } from '@registry/data';
 
 import { AuditWriter } from '../audit/audit-writer';
@@ -11,11 +11,13 @@ import type { Db } from '../common/db';
 import { expectedVersion, staleVersion } from '../common/http/concurrency';
 import { cursorInstant, decodeCursor, encodeCursor, type Page, toPage } from '../common/pagination';
 import { DomainError } from '../common/problem/domain-error';
+import { APP_CONFIG, type AppConfig } from '../config/config.schema';
 import { assertChannelReader } from './channel-access';
 import { newWebhookSecret } from './webhook-signature';
 import { type StoredWebhook, WebhookRepository } from './webhook.repository';
 import type { CreateWebhook, IssuedWebhookView, UpdateWebhook, WebhookListQuery, WebhookView } from './webhook.schemas';
 import { WebhookSecrets } from './webhook-secrets';
+import { refusedTarget } from './webhook-targets';
 
 export function toWebhookView(w: StoredWebhook): WebhookView {
   return {
@@ -51,10 +53,12 @@ export class WebhookService {
     private readonly audit: AuditWriter,
     private readonly webhooks: WebhookRepository,
     private readonly secrets: WebhookSecrets,
+    @Inject(APP_CONFIG) private readonly config: AppConfig,
   ) {}
 
   async create(ctx: RequestContext, labId: string, body: CreateWebhook): Promise<IssuedWebhookView> {
     assertLabManager(ctx.actor, labId, 'lab');
+    this.assertTarget(body.url);
     await this.existingLab(this.prisma, labId);
     const box = this.secrets.required();
     const id = randomUUID();
@@ -101,6 +105,7 @@ export class WebhookService {
 
   async update(ctx: RequestContext, labId: string, id: string, ifMatch: string | undefined, body: UpdateWebhook): Promise<WebhookView> {
     assertLabManager(ctx.actor, labId, 'webhook');
+    if (body.url !== undefined) this.assertTarget(body.url);
     const version = expectedVersion(ifMatch);
     return this.prisma.$transaction(async (tx) => {
       const before = await this.existing(tx, labId, id);
@@ -139,6 +144,16 @@ export class WebhookService {
       });
       return { ...toWebhookView(after), secret };
     });
+  }
+
+  /** Unless the deployment allows them, no loopback, private or reserved address (names are checked when delivered). */
+  private assertTarget(url: string): void {
+    const reason = this.config.delivery.allowPrivateTargets ? null : refusedTarget(url);
+    if (reason) {
+      throw new DomainError('validation-failed', 'This webhook URL points at an address the registry does not deliver to.', [
+        { field: 'url', reason: `${reason} (WEBHOOK_PRIVATE_TARGETS=allow permits it)` },
+      ]);
+    }
   }
 
   private async existingLab(db: Db, labId: string): Promise<void> {
