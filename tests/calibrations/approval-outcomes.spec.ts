@@ -135,6 +135,57 @@ describe('what approval and void do beyond the record', () => {
     expect(lookup.body).toMatchObject({ reviewRequired: true, reviewReason: factor.reviewReason });
   });
 
+  it('a calibration approved after its thermometer was found out of tolerance gets a factor marked for review', async () => {
+    const { balance, thermometer } = await seedTraceableInstruments(w.prisma, w.cast.lab.id, w.cast.people.manager.id, hoursAgo(2));
+    const vessel = await seedVessel(w.prisma, w.cast.lab.id);
+    const cal = await createAndSubmit(
+      analyst,
+      pipetteRun(w, PASSING, { vesselId: vessel.id, balanceId: balance.id, thermometerId: thermometer.id }),
+    );
+    // Found while the calibration waited for approval: its impact had no factor to mark.
+    const foundAt = hoursAgo(0.5).toISOString();
+    const reason = 'Reads 0.4 K high against the reference thermometer';
+    const finding = await t.http
+      .post(`/v1/instruments/${thermometer.id}/out-of-tolerance`)
+      .set(bearer(w.cast.tokens.manager))
+      .send({ foundAt, reason })
+      .expect(200);
+    expect(finding.body.impact.calibrations.map((c: { id: string }) => c.id)).toContain(cal.id);
+    expect(finding.body.impact.factors).toEqual([]);
+    const approved = expectStatus(await manager.act(cal.id, 'approve', cal.etag), 200);
+    const factor = await w.prisma.factor.findUniqueOrThrow({ where: { id: approved.body.impact.factor.id as string } });
+    expect(factor.reviewRequiredAt).not.toBeNull();
+    expect(factor.reviewReason).toBe(
+      `Thermometer ${thermometer.assetTag} was found out of tolerance at ${foundAt} (${reason}), after this calibration was performed with it`,
+    );
+  });
+
+  it('a finding that reaches back only to the thermometer’s later recalibration leaves an earlier calibration’s factor unmarked', async () => {
+    const { balance, thermometer } = await seedTraceableInstruments(w.prisma, w.cast.lab.id, w.cast.people.manager.id, hoursAgo(31));
+    const vessel = await seedVessel(w.prisma, w.cast.lab.id);
+    const cal = await createAndSubmit(
+      analyst,
+      pipetteRun(w, PASSING, {
+        vesselId: vessel.id,
+        balanceId: balance.id,
+        thermometerId: thermometer.id,
+        performedAt: hoursAgo(30).toISOString(),
+      }),
+    );
+    // Recalibrated today (the lab's calendar day, Vienna): a finding now covers calibrations from today on.
+    const today = new Intl.DateTimeFormat('en-CA', { timeZone: 'Europe/Vienna' }).format(new Date());
+    await w.prisma.instrument.update({ where: { id: thermometer.id }, data: { calibrationDate: new Date(`${today}T00:00:00Z`) } });
+    const finding = await t.http
+      .post(`/v1/instruments/${thermometer.id}/out-of-tolerance`)
+      .set(bearer(w.cast.tokens.manager))
+      .send({ foundAt: hoursAgo(0.5).toISOString(), reason: 'Reads 0.4 K high' })
+      .expect(200);
+    expect(finding.body.impact.calibrations.map((c: { id: string }) => c.id)).not.toContain(cal.id);
+    const approved = expectStatus(await manager.act(cal.id, 'approve', cal.etag), 200);
+    const factor = await w.prisma.factor.findUniqueOrThrow({ where: { id: approved.body.impact.factor.id as string } });
+    expect(factor).toMatchObject({ reviewRequiredAt: null, reviewReason: null });
+  });
+
   it('voiding an approved calibration withdraws its current factor in the same step', async () => {
     const vessel = await seedVessel(w.prisma, w.cast.lab.id);
     const cal = await createAndSubmit(analyst, pipetteRun(w, PASSING, { vesselId: vessel.id }));

@@ -125,7 +125,8 @@ export class CalibrationController {
       'With the lab’s four-eyes rule (the default) the reviewer is neither the performer nor the person who entered it (403 four-eyes). ' +
       'A passing or no-limit calibration becomes the performer’s factor for the vessel in the same transaction (the previous one ' +
       'superseded, kept as history). A failed one gives no factor: the vessel’s current factors are marked for review and, where ' +
-      'the lab says so, the vessel is quarantined; `impact` lists what changed.',
+      'the lab says so, the vessel is quarantined; `impact` lists what changed. A factor from a calibration that a later failed ' +
+      'routine check of its balance, or a later out-of-tolerance finding of its thermometer, already reached is issued marked for review.',
   })
   @ApiBody({ type: ApproveCalibrationDto, required: false })
   @ApiResponse({ status: 403, description: 'forbidden (not a manager of the lab) or four-eyes' })

@@ -57,7 +57,7 @@ export class FactorIssuer {
     const becomesCurrent = !current || current.validFrom.getTime() <= cal.performedAt.getTime();
     const now = this.clock.now();
     const values = factorValues(cal.points);
-    const review = await laterFailedCheck(tx, cal);
+    const review = (await laterFailedCheck(tx, cal)) ?? (await laterThermometerFinding(tx, cal));
     // The old factor stops being current before the new one is written: the
     // one-current-factor index is checked row by row and cannot wait for commit.
     if (becomesCurrent && current) {
@@ -140,6 +140,34 @@ async function laterFailedCheck(tx: Prisma.TransactionClient, cal: ApprovedCalib
   const first = rows[0];
   if (!first || first.passed) return null;
   return `Balance ${first.asset_tag} failed its routine check of ${first.performed_at.toISOString()}, the first after this calibration was performed`;
+}
+
+/**
+ * Likewise for the thermometer: a calibration approved after its thermometer was found out of
+ * tolerance, when the finding's impact reached back to it (performed since the thermometer's
+ * last calibration day as the finding recorded it), had no factor to mark then. The finding is
+ * the audited event itself; one recorded before its scope was kept falls back to the
+ * instrument's calibration day now.
+ */
+async function laterThermometerFinding(tx: Prisma.TransactionClient, cal: ApprovedCalibration): Promise<string | null> {
+  const rows = await tx.$queryRaw<{ asset_tag: string; found_at: string; reason: string | null }[]>`
+    SELECT i.asset_tag, f.new_values->>'foundAt' AS found_at, f.reason
+      FROM calibrations c
+      JOIN instruments i ON i.id = c.thermometer_id
+      JOIN labs l ON l.id = i.lab_id
+      JOIN audit_entries f ON f.entity_type = 'instrument' AND f.entity_id = c.thermometer_id::text AND f.action = 'out-of-tolerance'
+     WHERE c.id = ${cal.id}::uuid
+       AND (f.new_values->>'foundAt')::timestamptz >= c.performed_at
+       AND coalesce(CASE WHEN f.new_values ? 'since' THEN (f.new_values->>'since')::timestamptz
+                         ELSE i.calibration_date::timestamp AT TIME ZONE l.time_zone END, '-infinity') <= c.performed_at
+     ORDER BY f.seq
+     LIMIT 1`;
+  const first = rows[0];
+  if (!first) return null;
+  return (
+    `Thermometer ${first.asset_tag} was found out of tolerance at ${new Date(first.found_at).toISOString()}` +
+    `${first.reason ? ` (${first.reason})` : ''}, after this calibration was performed with it`
+  );
 }
 
 /** Single factor (ratio and correction) for one point; a curve for several. */

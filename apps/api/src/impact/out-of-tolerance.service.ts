@@ -51,6 +51,7 @@ export class OutOfToleranceService {
       const instrument = (await this.instruments.findById(tx, instrumentId)) ?? seen;
       const timeZone = await this.repository.labTimeZone(tx, instrument.labId);
 
+      const since = instrument.calibrationDate === null ? null : startOfLocalDay(instrument.calibrationDate, timeZone);
       const quarantine = instrument.status === 'in-service';
       const updated = quarantine
         ? await this.instruments.update(tx, instrument.id, instrument.version, { status: 'quarantined' }, now)
@@ -65,10 +66,15 @@ export class OutOfToleranceService {
         entityId: instrument.id,
         labId: instrument.labId,
         oldValues: { status: instrument.status, version: instrument.version },
-        newValues: { status: updated.status, version: updated.version, foundAt: foundAt.toISOString() },
+        // `since` keeps the finding's reach: a calibration approved later is checked against it (factor-issuer.ts).
+        newValues: {
+          status: updated.status,
+          version: updated.version,
+          foundAt: foundAt.toISOString(),
+          since: since?.toISOString() ?? null,
+        },
         reason: body.reason,
       });
-      const since = instrument.calibrationDate === null ? null : startOfLocalDay(instrument.calibrationDate, timeZone);
       const impactReason =
         `${instrument.assetTag} found out of tolerance at ${foundAt.toISOString()} (${body.reason}): ` +
         'calibrations that used it since its last calibration need review';
