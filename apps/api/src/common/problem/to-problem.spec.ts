@@ -38,6 +38,8 @@ describe('toProblem', () => {
     'Connection terminated due to connection timeout',
     'timeout exceeded when trying to connect',
     'Client has encountered a connection error and is not queryable',
+    'Database statement timed out: no answer within 1500 ms; the connection was closed',
+    'Transaction API error: Unable to start a transaction in the given time.',
   ])('maps the pool’s “%s” (a database that does not answer, or a connection lost mid-request) to 503', (message) => {
     expect(toProblem(new Error(message), {}).problem).toMatchObject({ status: 503, code: 'service-unavailable' });
   });

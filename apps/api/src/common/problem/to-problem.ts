@@ -158,8 +158,12 @@ const UNAVAILABLE_CODES = new Set([
 /** What the Prisma pg adapter calls a lost or refused connection (its `cause.kind`). */
 const UNAVAILABLE_KINDS = new Set(['DatabaseNotReachable', 'ConnectionClosed', 'SocketTimeout', 'TooManyConnections']);
 
+/**
+ * The pool's and the driver's words for a database that is gone or does not answer: our own statement bound
+ * (`StatementTimeoutError`), and Prisma's P2028 when no connection came within a transaction's `maxWait`.
+ */
 const UNAVAILABLE_MESSAGE =
-  /(timeout exceeded when trying to connect|Connection terminated|connect ECONNREFUSED|Can't reach database server|is not queryable)/i;
+  /(timeout exceeded when trying to connect|Connection terminated|connect ECONNREFUSED|Can't reach database server|is not queryable|Database statement timed out|Unable to start a transaction in the given time)/i;
 
 type ErrorLike = { code?: unknown; kind?: unknown; cause?: unknown; message?: unknown; meta?: { driverAdapterError?: unknown } };
 
