@@ -9,6 +9,8 @@ describe('configuration', () => {
     expect(config.database.url).toBeUndefined();
     expect(config.database.dataDir).toBe(resolve('.data/postgres'));
     expect(config.logLevel).toBe('info');
+    // The client's statement bound stays above the server's 30 s statement timeout.
+    expect(config.database).toMatchObject({ connectTimeoutMs: 3000, queryTimeoutMs: 35_000 });
   });
 
   it.each([
@@ -17,6 +19,8 @@ describe('configuration', () => {
     [{ DATABASE_URL: 'mysql://x' }, /^Invalid configuration: DATABASE_URL must be a postgresql:\/\/ URL/],
     [{ LOG_LEVEL: 'loud' }, /^Invalid configuration: LOG_LEVEL /],
     [{ CORS_ORIGINS: 'not a url' }, /^Invalid configuration: CORS_ORIGINS /],
+    [{ DB_QUERY_TIMEOUT_MS: '50' }, /^Invalid configuration: DB_QUERY_TIMEOUT_MS /],
+    [{ DB_QUERY_TIMEOUT_MS: '1.5s' }, /^Invalid configuration: DB_QUERY_TIMEOUT_MS /],
   ])('stops with one line naming the variable for %j', (env, message) => {
     expect(() => parseConfig(env)).toThrow(ConfigError);
     expect(() => parseConfig(env)).toThrow(message);

@@ -27,7 +27,9 @@ async function main(): Promise<void> {
     databaseUrl: server.url,
     poolMax: config.database.poolMax,
     connectionTimeoutMs: config.database.connectTimeoutMs,
+    queryTimeoutMs: config.database.queryTimeoutMs,
     onPoolError: (err) => logger.warn({ err: { message: err.message } }, 'database connection lost'),
+    onQueryTimeout: (err) => logger.warn({ err: { message: err.message } }, 'database statement unanswered; connection closed'),
   });
   const app = await createApp({ config, database, logger });
   installShutdown({ app, database, server, logger, graceMs: config.shutdownGraceMs });

@@ -21,6 +21,8 @@ export const configSchema = z.object({
   LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).default('info'),
   DB_POOL_MAX: positiveInt.max(200).default(10),
   DB_CONNECT_TIMEOUT_MS: positiveInt.default(3000),
+  // Longer than the server's own 30 s statement timeout, which wins whenever the server is alive.
+  DB_QUERY_TIMEOUT_MS: positiveInt.min(100).default(35_000),
   BODY_LIMIT_BYTES: positiveInt.default(1_048_576),
   SHUTDOWN_GRACE_MS: positiveInt.default(10_000),
   // The due-date scheduler (notices); unset = on, except under NODE_ENV=test.
@@ -102,6 +104,8 @@ export interface AppConfig {
     readonly embeddedPort: number;
     readonly poolMax: number;
     readonly connectTimeoutMs: number;
+    /** A statement unanswered this long fails (503) and its connection is closed. */
+    readonly queryTimeoutMs: number;
   };
   readonly auth: {
     readonly sessionIdleMs: number;
@@ -167,6 +171,7 @@ export function parseConfig(source: Record<string, string | undefined>): AppConf
       embeddedPort: e.EMBEDDED_DB_PORT,
       poolMax: e.DB_POOL_MAX,
       connectTimeoutMs: e.DB_CONNECT_TIMEOUT_MS,
+      queryTimeoutMs: e.DB_QUERY_TIMEOUT_MS,
     },
     auth: {
       sessionIdleMs: e.SESSION_IDLE_MINUTES * 60_000,
