@@ -1,6 +1,6 @@
 import ICAL from 'ical.js';
 
-import { auditAndLogText, seedCheckWeight, seedInstrument, seedVessel } from '../support/factories';
+import { auditAndLogText, seedCheckWeight, seedFactor, seedInstrument, seedVessel } from '../support/factories';
 import { day, schedulingWorld, type SchedulingWorld } from './support';
 
 // A lab's due dates as an iCalendar feed behind a revocable token, read back with a parser from npm.
@@ -79,5 +79,32 @@ describe('calendar feed', () => {
     await expect(w.prisma.calendarFeed.update({ where: { id: created.id }, data: { revokedAt: null, revokedById: null } })).rejects.toThrow(
       /revoked, once/,
     );
+  });
+
+  it('leaves people’s names out of factor events unless the feed was made to show them', async () => {
+    const lab = w.cast.lab.id;
+    const vessel = await seedVessel(w.prisma, lab, { assetTag: 'PIP-10-031' });
+    await seedFactor(w.prisma, { labId: lab, personId: w.cast.people.analyst.id, vesselId: vessel.id });
+    const holder = (await w.prisma.person.findUniqueOrThrow({ where: { id: w.cast.people.analyst.id } })).displayName;
+    const plain = await w.post(`/v1/labs/${lab}/calendar-feeds`, 'manager', { name: 'Corridor screen' });
+    const named = await w.post(`/v1/labs/${lab}/calendar-feeds`, 'manager', { name: 'Managers’ calendar', showPeople: true });
+    expect([plain.status, plain.body.showPeople, named.status, named.body.showPeople]).toEqual([201, false, 201, true]);
+    expect((await w.post(`/v1/labs/${lab}/calendar-feeds`, 'manager', { name: 'X', showPeople: 'yes' })).body.errors).toEqual([
+      { field: 'showPeople', reason: 'must be true or false' },
+    ]);
+    const factorEvent = async (token: string) => {
+      const text = (await feed(token)).text;
+      const events = new ICAL.Component(ICAL.parse(text)).getAllSubcomponents('vevent').map((c) => new ICAL.Event(c));
+      const found = events.filter((e) => e.component.getFirstPropertyValue('categories') === 'factor');
+      expect(found).toHaveLength(1);
+      return { text, event: found[0] as ICAL.Event };
+    };
+    const withoutNames = await factorEvent(plain.body.token);
+    expect(withoutNames.event.summary).toBe('PIP-10-031 (a person’s factor): personal factor renewal due');
+    expect(withoutNames.text).not.toContain(holder);
+    const withNames = await factorEvent(named.body.token);
+    expect(withNames.event.summary).toBe(`PIP-10-031 · ${holder}: personal factor renewal due`);
+    const entry = await w.prisma.auditEntry.findFirstOrThrow({ where: { entityType: 'calendar-feed', entityId: named.body.id } });
+    expect(entry.newValues).toMatchObject({ showPeople: true });
   });
 });

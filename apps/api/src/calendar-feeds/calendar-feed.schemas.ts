@@ -15,6 +15,14 @@ export const createFeedSchema = z.strictObject({
     .max(100, { error: 'must be at most 100 characters' })
     .refine(isPlainText, plainTextOnly)
     .meta({ description: 'Whose calendar it is for, to recognise it when revoking', example: 'DW-CHEM shared calendar' }),
+  showPeople: z
+    .boolean({ error: 'must be true or false' })
+    .default(false)
+    .meta({
+      description:
+        'Name the holder of each personal factor falling due. Anyone with the token reads the feed, so names are left out ' +
+        'unless asked for; fixed at creation (revoke and create another to change it).',
+    }),
 });
 export class CreateFeedDto extends createZodDto(createFeedSchema) {}
 export type CreateFeed = z.output<typeof createFeedSchema>;
@@ -40,6 +48,7 @@ export const feedSchema = z.object({
   id: z.uuid(),
   labId: z.uuid(),
   name: z.string(),
+  showPeople: z.boolean().meta({ description: 'Whether factor events name their holder' }),
   createdById: z.uuid(),
   createdAt: z.iso.datetime(),
   revokedAt: z.iso.datetime().nullable(),

@@ -21,6 +21,7 @@ const present = (f: StoredFeed): FeedView => ({
   id: f.id,
   labId: f.labId,
   name: f.name,
+  showPeople: f.showPeople,
   createdById: f.createdById,
   createdAt: f.createdAt.toISOString(),
   revokedAt: f.revokedAt?.toISOString() ?? null,
@@ -61,7 +62,14 @@ export class CalendarFeedService {
       if (!(await tx.lab.findUnique({ where: { id: labId }, select: { id: true } })))
         throw new DomainError('not-found', 'No lab with that id.');
       const created = await tx.calendarFeed.create({
-        data: { labId, name: body.name, tokenHash: sha256(token), createdById: personId, createdAt: this.clock.now() },
+        data: {
+          labId,
+          name: body.name,
+          showPeople: body.showPeople,
+          tokenHash: sha256(token),
+          createdById: personId,
+          createdAt: this.clock.now(),
+        },
       });
       await this.audit.record(tx, ctx, {
         action: 'create',
@@ -122,6 +130,7 @@ export class CalendarFeedService {
       where: { labId: lab.id },
       orderBy: [{ dueOn: 'asc' }, { subjectKind: 'asc' }, { subjectId: 'asc' }],
     });
+    const vesselTags = feed.showPeople ? null : await this.factorVesselTags(rows);
     return renderCalendar({
       productId: '-//Glassware calibration registry//Due dates//EN',
       name: `${lab.code} due dates`,
@@ -130,14 +139,30 @@ export class CalendarFeedService {
         const dueOn = isoDay(d.dueOn);
         const state = dueState(today, dueOn, isoDay(d.dueSoonOn));
         const what = KIND_WORDS[d.subjectKind] ?? d.subjectKind;
+        // A factor's label is "asset tag · holder"; without people, the vessel's tag alone.
+        const label =
+          vesselTags && d.subjectKind === 'factor' ? `${vesselTags.get(d.subjectId) ?? 'vessel'} (a person’s factor)` : d.subjectLabel;
         return {
           uid: `${d.subjectKind}-${d.subjectId}-${dueOn}@due.registry`,
           date: dueOn,
-          summary: `${d.subjectLabel}: ${what} due`,
-          description: `${what} of ${d.subjectLabel} is due on ${dueOn} (${state} as of ${today}, ${lab.code}).\n${CAUTION}`,
+          summary: `${label}: ${what} due`,
+          description: `${what} of ${label} is due on ${dueOn} (${state} as of ${today}, ${lab.code}).\n${CAUTION}`,
           categories: [d.subjectKind, state],
         };
       }),
     });
+  }
+
+  /** The vessel asset tag of each current factor among the rows, to label factor events without their holder. */
+  private async factorVesselTags(rows: readonly { subjectKind: string; subjectId: string }[]): Promise<Map<string, string>> {
+    const ids = rows.filter((r) => r.subjectKind === 'factor').map((r) => r.subjectId);
+    if (ids.length === 0) return new Map();
+    const factors = await this.prisma.factor.findMany({ where: { id: { in: ids } }, select: { id: true, vesselId: true } });
+    const vessels = await this.prisma.vessel.findMany({
+      where: { id: { in: [...new Set(factors.map((f) => f.vesselId))] } },
+      select: { id: true, assetTag: true },
+    });
+    const tags = new Map(vessels.map((v) => [v.id, v.assetTag]));
+    return new Map(factors.map((f) => [f.id, tags.get(f.vesselId) ?? 'vessel']));
   }
 }
