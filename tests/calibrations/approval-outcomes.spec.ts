@@ -142,8 +142,9 @@ describe('what approval and void do beyond the record', () => {
       analyst,
       pipetteRun(w, PASSING, { vesselId: vessel.id, balanceId: balance.id, thermometerId: thermometer.id }),
     );
-    // Found while the calibration waited for approval: its impact had no factor to mark.
-    const foundAt = hoursAgo(0.5).toISOString();
+    // Recorded while the calibration waited for approval (its impact had no factor to mark), and found before the
+    // calibration was performed: the impact reaches every calibration since the thermometer's last calibration.
+    const foundAt = hoursAgo(3).toISOString();
     const reason = 'Reads 0.4 K high against the reference thermometer';
     const finding = await t.http
       .post(`/v1/instruments/${thermometer.id}/out-of-tolerance`)
@@ -156,8 +157,32 @@ describe('what approval and void do beyond the record', () => {
     const factor = await w.prisma.factor.findUniqueOrThrow({ where: { id: approved.body.impact.factor.id as string } });
     expect(factor.reviewRequiredAt).not.toBeNull();
     expect(factor.reviewReason).toBe(
-      `Thermometer ${thermometer.assetTag} was found out of tolerance at ${foundAt} (${reason}), after this calibration was performed with it`,
+      `Thermometer ${thermometer.assetTag} was found out of tolerance at ${foundAt} (${reason}); ` +
+        'the finding reached this calibration, performed with it before it was recorded',
     );
+  });
+
+  it('a finding recorded while the calibration is being approved marks its factor, whichever commits first', async () => {
+    for (let round = 0; round < 6; round++) {
+      const { balance, thermometer } = await seedTraceableInstruments(w.prisma, w.cast.lab.id, w.cast.people.manager.id, hoursAgo(2));
+      const vessel = await seedVessel(w.prisma, w.cast.lab.id);
+      const cal = await createAndSubmit(
+        analyst,
+        pipetteRun(w, PASSING, { vesselId: vessel.id, balanceId: balance.id, thermometerId: thermometer.id }),
+      );
+      const [approved, finding] = await Promise.all([
+        manager.act(cal.id, 'approve', cal.etag),
+        t.http
+          .post(`/v1/instruments/${thermometer.id}/out-of-tolerance`)
+          .set(bearer(w.cast.tokens.manager))
+          .send({ foundAt: hoursAgo(0.5).toISOString(), reason: `Round ${round}: reads high` }),
+      ]);
+      expect([approved.status, finding.status]).toEqual([200, 200]);
+      const factor = await w.prisma.factor.findUniqueOrThrow({ where: { id: approved.body.impact.factor.id as string } });
+      // Marked by the finding's impact (it committed second) or at issue (the approval committed second).
+      expect(factor.reviewRequiredAt).not.toBeNull();
+      expect(factor.reviewReason).toContain(thermometer.assetTag);
+    }
   });
 
   it('a finding that reaches back only to the thermometer’s later recalibration leaves an earlier calibration’s factor unmarked', async () => {

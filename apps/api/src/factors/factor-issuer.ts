@@ -57,6 +57,10 @@ export class FactorIssuer {
     const becomesCurrent = !current || current.validFrom.getTime() <= cal.performedAt.getTime();
     const now = this.clock.now();
     const values = factorValues(cal.points);
+    // A failed check or an out-of-tolerance finding being recorded now holds its balance or thermometer row
+    // (FOR UPDATE): waiting for it here means either its impact sees this factor or this approval sees it.
+    await tx.$queryRaw`SELECT 1 FROM calibrations c JOIN balances b ON b.id = c.balance_id JOIN instruments i ON i.id = c.thermometer_id
+                        WHERE c.id = ${cal.id}::uuid FOR SHARE OF b, i`;
     const review = (await laterFailedCheck(tx, cal)) ?? (await laterThermometerFinding(tx, cal));
     // The old factor stops being current before the new one is written: the
     // one-current-factor index is checked row by row and cannot wait for commit.
@@ -144,8 +148,8 @@ async function laterFailedCheck(tx: Prisma.TransactionClient, cal: ApprovedCalib
 
 /**
  * Likewise for the thermometer: a calibration approved after its thermometer was found out of
- * tolerance, when the finding's impact reached back to it (performed since the thermometer's
- * last calibration day as the finding recorded it), had no factor to mark then. The finding is
+ * tolerance, when the finding's impact reached it (performed before the finding was recorded and
+ * since the thermometer's last calibration day as the finding kept it), had no factor to mark then. The finding is
  * the audited event itself; one recorded before its scope was kept falls back to the
  * instrument's calibration day now.
  */
@@ -157,7 +161,7 @@ async function laterThermometerFinding(tx: Prisma.TransactionClient, cal: Approv
       JOIN labs l ON l.id = i.lab_id
       JOIN audit_entries f ON f.entity_type = 'instrument' AND f.entity_id = c.thermometer_id::text AND f.action = 'out-of-tolerance'
      WHERE c.id = ${cal.id}::uuid
-       AND (f.new_values->>'foundAt')::timestamptz >= c.performed_at
+       AND f.occurred_at >= c.performed_at
        AND coalesce(CASE WHEN f.new_values ? 'since' THEN (f.new_values->>'since')::timestamptz
                          ELSE i.calibration_date::timestamp AT TIME ZONE l.time_zone END, '-infinity') <= c.performed_at
      ORDER BY f.seq
@@ -166,7 +170,7 @@ async function laterThermometerFinding(tx: Prisma.TransactionClient, cal: Approv
   if (!first) return null;
   return (
     `Thermometer ${first.asset_tag} was found out of tolerance at ${new Date(first.found_at).toISOString()}` +
-    `${first.reason ? ` (${first.reason})` : ''}, after this calibration was performed with it`
+    `${first.reason ? ` (${first.reason})` : ''}; the finding reached this calibration, performed with it before it was recorded`
   );
 }
 
