@@ -95,6 +95,8 @@ function post(url: string, headers: Record<string, string>, body: string, option
         method: 'POST',
         headers: { ...headers, 'content-length': String(Buffer.byteLength(body)) },
         signal: AbortSignal.timeout(options.timeoutMs),
+        // A connection of its own each time: a kept-alive one from the shared agent would skip the guarded lookup.
+        agent: false,
         ...(options.allowPrivateTargets ? {} : { lookup: guardedLookup }),
       },
       (res) => {

@@ -36,6 +36,12 @@ describe('isBlockedAddress', () => {
     ['fc00::1', 'unique local (RFC 4193)'],
     ['fdff:ffff:ffff:ffff:ffff:ffff:ffff:ffff', 'unique local (RFC 4193)'],
     ['fe80::1', 'link-local (RFC 4291)'],
+    ['fec0::1', 'site-local, deprecated (RFC 3879)'],
+    ['64:ff9b:1::a9fe:a9fe', 'local-use NAT64 (RFC 8215), here of 169.254.169.254'],
+    ['2002:7f00:1::1', '6to4 of 127.0.0.1 (RFC 3056)'],
+    ['2001:0:4136:e378::1', 'Teredo (RFC 4380)'],
+    ['::ffff:0:7f00:1', 'IPv4-translated 127.0.0.1 (RFC 2765)'],
+    ['192.88.99.1', 'former 6to4 relay anycast (RFC 7526)'],
     ['ff02::1', 'multicast (RFC 4291)'],
   ])('blocks %s: %s', (address) => {
     expect(isBlockedAddress(address)).toBe(true);
@@ -56,7 +62,8 @@ describe('isBlockedAddress', () => {
     ['64:ff9b::1.1.1.1', 'NAT64 of a public address'],
     ['2606:4700:4700::1111', 'a public IPv6 resolver'],
     ['fbff:ffff::1', 'just below fc00::/7'],
-    ['fec0::1', 'just above fe80::/10'],
+    ['fe00::1', 'between unique local and link-local'],
+    ['2001:200::1', 'just above 2001::/23'],
   ])('lets %s through: %s', (address) => {
     expect(isBlockedAddress(address)).toBe(false);
   });

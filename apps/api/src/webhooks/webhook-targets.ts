@@ -5,9 +5,12 @@ import { BlockList, isIP, type LookupFunction } from 'node:net';
  * Where a webhook may not deliver unless the deployment allows private targets
  * (WEBHOOK_PRIVATE_TARGETS=allow): this host, the lab network and the cloud's
  * metadata service are not for a lab manager to reach through the registry.
- * The blocks are the special-purpose ones of the IANA registries (RFC 6890 and
- * its updates): unspecified, loopback, private, shared (carrier NAT),
- * link-local, benchmarking, documentation, multicast and reserved.
+ * The blocks are those of the IANA special-purpose registries (RFC 6890 and
+ * its updates) that are not globally reachable, plus the deprecated and
+ * tunnelling forms that can carry an internal IPv4 address: unspecified,
+ * loopback, private, shared (carrier NAT), link-local, benchmarking,
+ * documentation, multicast, reserved, IPv4-compatible, IPv4-translated,
+ * local-use NAT64, 6to4, Teredo and site-local.
  */
 const BLOCKED = new BlockList();
 const IPV4_BLOCKS: readonly (readonly [string, number])[] = [
@@ -19,6 +22,7 @@ const IPV4_BLOCKS: readonly (readonly [string, number])[] = [
   ['172.16.0.0', 12], // private (RFC 1918)
   ['192.0.0.0', 24], // IETF protocol assignments (RFC 6890)
   ['192.0.2.0', 24], // documentation TEST-NET-1 (RFC 5737)
+  ['192.88.99.0', 24], // former 6to4 relay anycast (RFC 7526)
   ['192.168.0.0', 16], // private (RFC 1918)
   ['198.18.0.0', 15], // benchmarking (RFC 2544)
   ['198.51.100.0', 24], // documentation TEST-NET-2 (RFC 5737)
@@ -30,10 +34,15 @@ const IPV6_BLOCKS: readonly (readonly [string, number])[] = [
   ['::', 128], // unspecified (RFC 4291)
   ['::1', 128], // loopback (RFC 4291)
   ['::', 96], // the deprecated IPv4-compatible form (RFC 4291, 2.5.5.1), ::7f00:1 among them
+  ['::ffff:0:0:0', 96], // IPv4-translated (RFC 2765)
+  ['64:ff9b:1::', 48], // local-use IPv4/IPv6 translation, for private networks (RFC 8215)
   ['100::', 64], // discard-only (RFC 6666)
+  ['2001::', 23], // IETF protocol assignments, Teredo among them (RFC 2928, RFC 4380)
   ['2001:db8::', 32], // documentation (RFC 3849)
+  ['2002::', 16], // 6to4, which carries any IPv4 address (RFC 3056, deprecated by RFC 7526)
   ['fc00::', 7], // unique local (RFC 4193)
   ['fe80::', 10], // link-local (RFC 4291)
+  ['fec0::', 10], // site-local, deprecated (RFC 3879)
   ['ff00::', 8], // multicast (RFC 4291)
 ];
 for (const [net, prefix] of IPV4_BLOCKS) BLOCKED.addSubnet(net, prefix, 'ipv4');
