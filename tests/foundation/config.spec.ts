@@ -21,9 +21,15 @@ describe('configuration', () => {
     [{ CORS_ORIGINS: 'not a url' }, /^Invalid configuration: CORS_ORIGINS /],
     [{ DB_QUERY_TIMEOUT_MS: '50' }, /^Invalid configuration: DB_QUERY_TIMEOUT_MS /],
     [{ DB_QUERY_TIMEOUT_MS: '1.5s' }, /^Invalid configuration: DB_QUERY_TIMEOUT_MS /],
+    [{ DB_QUERY_TIMEOUT_MS: '5000' }, /^Invalid configuration: DB_QUERY_TIMEOUT_MS must be longer than IDEMPOTENCY_WAIT_SECONDS \(10 s\)/],
+    [{ DB_QUERY_TIMEOUT_MS: '2000', IDEMPOTENCY_WAIT_SECONDS: '2' }, /^Invalid configuration: DB_QUERY_TIMEOUT_MS must be longer/],
   ])('stops with one line naming the variable for %j', (env, message) => {
     expect(() => parseConfig(env)).toThrow(ConfigError);
     expect(() => parseConfig(env)).toThrow(message);
+  });
+
+  it('takes a statement bound longer than the idempotency wait', () => {
+    expect(parseConfig({ DB_QUERY_TIMEOUT_MS: '2001', IDEMPOTENCY_WAIT_SECONDS: '2' }).database.queryTimeoutMs).toBe(2001);
   });
 
   it('treats empty variables as unset', () => {

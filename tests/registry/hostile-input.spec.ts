@@ -33,14 +33,25 @@ import { changedTables, type HostileWorld, hostileWorld, snapshot } from './host
  * 400; what it accepts may succeed, or be refused by a domain rule (4xx).
  */
 
+/** A whole number from the environment, or the default; anything else stops the run rather than fuzz nothing. */
+function wholeFromEnv(name: string, fallback: number, min: number): number {
+  const raw = process.env[name];
+  if (raw === undefined) return fallback;
+  const value = Number(raw);
+  if (raw.trim() === '' || !Number.isSafeInteger(value) || value < min)
+    throw new Error(`${name} must be a whole number ≥ ${min} (got ${JSON.stringify(raw)})`);
+  return value;
+}
 /**
  * Deterministic by default, so that a red run can be replayed: HOSTILE_SEED picks another
  * sequence (HOSTILE_SEED=random for a new one each run) and HOSTILE_RUNS the runs per property;
  * `npm run test:fuzz` explores with a random seed and more runs. A failure prints its seed.
  */
-const RUNS = Number(process.env.HOSTILE_RUNS ?? 40);
+const RUNS = wholeFromEnv('HOSTILE_RUNS', 40, 1);
 const SEED =
-  process.env.HOSTILE_SEED === 'random' ? Date.now() ^ (Math.random() * 0x7fffffff) : Number(process.env.HOSTILE_SEED ?? 20_261_202);
+  process.env.HOSTILE_SEED === 'random'
+    ? (Date.now() ^ (Math.random() * 0x7fffffff)) | 0
+    : wholeFromEnv('HOSTILE_SEED', 20_261_202, -(2 ** 31));
 fc.configureGlobal({ seed: SEED });
 const MAX_MS = 2_000;
 /** BODY_LIMIT_BYTES (default): a larger body is a 413, whatever it holds. */

@@ -1,8 +1,8 @@
 import 'reflect-metadata';
 
-import { execFileSync } from 'node:child_process';
 import { randomUUID } from 'node:crypto';
-import { mkdtemp, readFile, rm } from 'node:fs/promises';
+import { readdirSync, readFileSync } from 'node:fs';
+import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Writable } from 'node:stream';
@@ -46,23 +46,48 @@ interface Outcome {
   readonly requestId?: string;
 }
 
-/** The postmaster of the cluster in `clusterDir` and every process it started (pids). */
-async function clusterProcesses(clusterDir: string): Promise<number[]> {
-  const postmaster = Number.parseInt((await readFile(join(clusterDir, 'postmaster.pid'), 'utf8')).split('\n')[0] ?? '', 10);
+/**
+ * The postmaster of the cluster in `clusterDir` and every process it started (pids), read from /proc
+ * (Linux, where the test runs). Synchronous on purpose: nothing else runs between reading and stopping.
+ */
+function clusterProcesses(clusterDir: string): number[] {
+  const postmaster = Number.parseInt(readFileSync(join(clusterDir, 'postmaster.pid'), 'utf8').split('\n')[0] ?? '', 10);
   if (!Number.isInteger(postmaster) || postmaster <= 0) throw new Error(`no postmaster pid in ${clusterDir}`);
-  let children = '';
+  const children = readdirSync('/proc')
+    .filter((entry) => /^\d+$/.test(entry))
+    .filter((entry) => {
+      let stat = '';
+      try {
+        stat = readFileSync(join('/proc', entry, 'stat'), 'utf8');
+      } catch {
+        return false; // gone meanwhile
+      }
+      // pid (comm) state ppid …: comm may hold spaces and parentheses, so read after its closing one.
+      return Number.parseInt(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[1] ?? '', 10) === postmaster;
+    })
+    .map(Number);
+  return [postmaster, ...children];
+}
+
+/** The state letter of a process (T = stopped), or null once it is gone. */
+function processState(pid: number): string | null {
   try {
-    children = execFileSync('ps', ['-o', 'pid=', '--ppid', String(postmaster)], { encoding: 'utf8' });
+    const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
+    return stat.slice(stat.lastIndexOf(')') + 2, stat.lastIndexOf(')') + 3);
   } catch {
-    // ps exits 1 when there are no children.
+    return null;
   }
-  return [
-    postmaster,
-    ...children
-      .split('\n')
-      .map((s) => Number.parseInt(s, 10))
-      .filter((pid) => pid > 0),
-  ];
+}
+
+/** Waits until every process is stopped (SIGSTOP is delivered asynchronously); fails the test plainly if one is not. */
+async function allStopped(pids: readonly number[]): Promise<void> {
+  const deadline = Date.now() + 2_000;
+  for (;;) {
+    const running = pids.filter((pid) => !['T', 't', null].includes(processState(pid)));
+    if (running.length === 0) return;
+    if (Date.now() > deadline) throw new Error(`the cluster did not stop: ${running.map((p) => `${p}=${processState(p)}`).join(', ')}`);
+    await new Promise((r) => setTimeout(r, 5));
+  }
 }
 
 function signal(pids: readonly number[], sig: NodeJS.Signals): void {
@@ -97,6 +122,7 @@ describe('when the database freezes (accepts, never answers) under load and thaw
       DATABASE_URL: server.url,
       DB_QUERY_TIMEOUT_MS: String(QUERY_TIMEOUT_MS),
       DB_CONNECT_TIMEOUT_MS: String(CONNECT_TIMEOUT_MS),
+      IDEMPOTENCY_WAIT_SECONDS: '1',
     });
     // As main.ts builds it.
     database = createDatabase({
@@ -209,10 +235,11 @@ describe('when the database freezes (accepts, never answers) under load and thaw
     state.phase = 'frozen';
     const { clusterDir } = server.embedded!;
     for (let round = 0; round < 2; round++) {
-      const pids = await clusterProcesses(clusterDir);
+      const pids = clusterProcesses(clusterDir);
       for (const pid of pids) stopped.add(pid);
       signal(pids, 'SIGSTOP');
     }
+    await allStopped([...stopped]);
     freeze();
     // A transaction begun while frozen (Prisma's default maxWait of 2 s, shorter than the connect timeout).
     const startedFrozen = Date.now();

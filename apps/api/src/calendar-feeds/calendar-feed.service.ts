@@ -130,7 +130,7 @@ export class CalendarFeedService {
       where: { labId: lab.id },
       orderBy: [{ dueOn: 'asc' }, { subjectKind: 'asc' }, { subjectId: 'asc' }],
     });
-    const vesselTags = feed.showPeople ? null : await this.factorVesselTags(rows);
+    const vesselTags = feed.showPeople ? null : await this.factorVesselTags(lab.id);
     return renderCalendar({
       productId: '-//Glassware calibration registry//Due dates//EN',
       name: `${lab.code} due dates`,
@@ -153,16 +153,14 @@ export class CalendarFeedService {
     });
   }
 
-  /** The vessel asset tag of each current factor among the rows, to label factor events without their holder. */
-  private async factorVesselTags(rows: readonly { subjectKind: string; subjectId: string }[]): Promise<Map<string, string>> {
-    const ids = rows.filter((r) => r.subjectKind === 'factor').map((r) => r.subjectId);
-    if (ids.length === 0) return new Map();
-    const factors = await this.prisma.factor.findMany({ where: { id: { in: ids } }, select: { id: true, vesselId: true } });
-    const vessels = await this.prisma.vessel.findMany({
-      where: { id: { in: [...new Set(factors.map((f) => f.vesselId))] } },
-      select: { id: true, assetTag: true },
-    });
-    const tags = new Map(vessels.map((v) => [v.id, v.assetTag]));
-    return new Map(factors.map((f) => [f.id, tags.get(f.vesselId) ?? 'vessel']));
+  /** The vessel asset tag of each current factor falling due in the lab, to label factor events without their holder. */
+  private async factorVesselTags(labId: string): Promise<Map<string, string>> {
+    const rows = await this.prisma.$queryRaw<{ id: string; asset_tag: string }[]>`
+      SELECT f.id, v.asset_tag
+        FROM due_dates d
+        JOIN factors f ON f.id = d.subject_id
+        JOIN vessels v ON v.id = f.vessel_id
+       WHERE d.lab_id = ${labId}::uuid AND d.subject_kind = 'factor'`;
+    return new Map(rows.map((r) => [r.id, r.asset_tag]));
   }
 }

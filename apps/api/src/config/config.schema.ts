@@ -161,6 +161,13 @@ export function parseConfig(source: Record<string, string | undefined>): AppConf
   if (e.SMTP_URL && !e.MAIL_FROM) {
     throw new ConfigError('Invalid configuration: MAIL_FROM is required when SMTP_URL is set (got "")');
   }
+  // A request waiting for another with the same Idempotency-Key waits in a statement: the bound must outlast it.
+  if (e.DB_QUERY_TIMEOUT_MS <= e.IDEMPOTENCY_WAIT_SECONDS * 1000) {
+    throw new ConfigError(
+      `Invalid configuration: DB_QUERY_TIMEOUT_MS must be longer than IDEMPOTENCY_WAIT_SECONDS (${e.IDEMPOTENCY_WAIT_SECONDS} s) ` +
+        `(got ${JSON.stringify(source.DB_QUERY_TIMEOUT_MS ?? '')})`,
+    );
+  }
   return {
     env: e.NODE_ENV,
     http: { port: e.PORT, host: e.HOST, bodyLimitBytes: e.BODY_LIMIT_BYTES, corsOrigins: e.CORS_ORIGINS, trustProxy: e.TRUST_PROXY },

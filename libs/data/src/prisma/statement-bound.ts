@@ -54,7 +54,12 @@ export function boundStatements(client: PoolClient, timeoutMs: number, onTimeout
         if (err) reject(err);
         else resolve(result);
       };
-      query(...request, answered);
+      try {
+        query(...request, answered);
+      } catch (err) {
+        // Refused before it was sent (e.g. the client is already ending): no statement to wait for.
+        answered(err as Error);
+      }
     });
     if (!callback) return outcome;
     outcome.then(
