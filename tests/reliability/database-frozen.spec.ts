@@ -16,7 +16,7 @@ import { toProblem } from '../../apps/api/src/common/problem/to-problem';
 import { parseConfig } from '../../apps/api/src/config/config.schema';
 import { createLogger } from '../../apps/api/src/logging';
 import { seedCast, seedCredential, seedFactor, seedVessel } from '../support/factories';
-import { call } from './support/service-process';
+import { call, readyAfter } from './support/service-process';
 
 /**
  * The database freezes instead of going away: every process of a dedicated embedded cluster is
@@ -261,12 +261,7 @@ describe('when the database freezes (accepts, never answers) under load and thaw
     const removedWhileFrozen = removed;
     signal([...stopped], 'SIGCONT');
     const thawAt = Date.now();
-    let readyAfterMs: number | null = null;
-    while (readyAfterMs === null && Date.now() - thawAt < 15_000) {
-      const res = await call(baseUrl, 'GET', '/health/ready', {});
-      if (res.ok && res.status === 200) readyAfterMs = Date.now() - thawAt;
-      else await new Promise((r) => setTimeout(r, 100));
-    }
+    const readyAfterMs = await readyAfter(baseUrl, thawAt);
     state.phase = 'back';
     await new Promise((r) => setTimeout(r, PHASE_MS));
     state.stop = true;

@@ -23,7 +23,7 @@ import { parseConfig } from '../../apps/api/src/config/config.schema';
 import { createLogger } from '../../apps/api/src/logging';
 import { startReceiver, TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
 import { seedCast, seedCheckWeight, seedCredential, seedFactor, seedVessel } from '../support/factories';
-import { call, type CallOutcome } from './support/service-process';
+import { call, type CallOutcome, readyAfter } from './support/service-process';
 
 /**
  * The database goes away under load and comes back (a dedicated embedded PostgreSQL
@@ -196,12 +196,7 @@ describe('when the database goes away under load and comes back', () => {
 
       restarted = await startEmbeddedPostgres({ dataDir: join(folder, 'cluster'), database: 'registry', port: server.embedded!.port });
       const backSince = Date.now();
-      let readyAfterMs: number | null = null;
-      while (readyAfterMs === null && Date.now() - backSince < 15_000) {
-        const res = await call(baseUrl, 'GET', '/health/ready', {});
-        if (res.ok && res.status === 200) readyAfterMs = Date.now() - backSince;
-        else await new Promise((r) => setTimeout(r, 100));
-      }
+      const readyAfterMs = await readyAfter(baseUrl, backSince);
       state.phase = 'back';
       await new Promise((r) => setTimeout(r, PHASE_MS));
       state.stop = true;

@@ -118,3 +118,13 @@ export async function call(
     return { ok: false, error: String((err as Error)?.cause ?? (err as Error)?.message ?? err) };
   }
 }
+
+/** Milliseconds from `since` until `/health/ready` answers 200 (polled every 100 ms), or null if not within `limitMs`. */
+export async function readyAfter(baseUrl: string, since: number, limitMs = 15_000): Promise<number | null> {
+  while (Date.now() - since < limitMs) {
+    const res = await call(baseUrl, 'GET', '/health/ready', {});
+    if (res.ok && res.status === 200) return Date.now() - since;
+    await new Promise((r) => setTimeout(r, 100));
+  }
+  return null;
+}
