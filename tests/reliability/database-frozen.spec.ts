@@ -16,7 +16,8 @@ import { toProblem } from '../../apps/api/src/common/problem/to-problem';
 import { parseConfig } from '../../apps/api/src/config/config.schema';
 import { createLogger } from '../../apps/api/src/logging';
 import { seedCast, seedCredential, seedFactor, seedVessel } from '../support/factories';
-import { call, readyAfter } from './support/service-process';
+import { expectServesAgain } from './support/serves-again';
+import { readyAfter } from './support/service-process';
 
 /**
  * The database freezes instead of going away: every process of a dedicated embedded cluster is
@@ -340,18 +341,14 @@ describe('when the database freezes (accepts, never answers) under load and thaw
     expect(await verifyChain(owner.pool)).toMatchObject({ intact: true, firstBroken: null });
 
     // A write after the thaw, with its audit entry; the factor answers as before.
-    const requestId = randomUUID();
-    const read = await call(baseUrl, 'GET', `/v1/vessels/${vessels[1]!.id}`, manager);
-    const write = await call(
+    await expectServesAgain({
       baseUrl,
-      'PATCH',
-      `/v1/vessels/${vessels[1]!.id}`,
-      { ...manager, 'if-match': read.ok ? (read.etag ?? '') : '', 'x-request-id': requestId },
-      { notes: 'After the thaw' },
-    );
-    expect(write.ok && write.status).toBe(200);
-    expect(await prisma.auditEntry.count({ where: { requestId } })).toBe(1);
-    const lookup = await call(baseUrl, 'GET', `/v1/factors/current?personId=${cast.people.analyst.id}&vesselId=${vessels[0]!.id}`, service);
-    expect(lookup.ok && lookup.body.factorId).toBe(factor.id);
+      prisma,
+      manager,
+      service,
+      vesselId: vessels[1]!.id,
+      factor: { id: factor.id, personId: cast.people.analyst.id, vesselId: vessels[0]!.id },
+      notes: 'After the thaw',
+    });
   }, 60_000);
 });

@@ -1,6 +1,5 @@
 import 'reflect-metadata';
 
-import { randomUUID } from 'node:crypto';
 import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -23,6 +22,7 @@ import { parseConfig } from '../../apps/api/src/config/config.schema';
 import { createLogger } from '../../apps/api/src/logging';
 import { startReceiver, TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
 import { seedCast, seedCheckWeight, seedCredential, seedFactor, seedVessel } from '../support/factories';
+import { expectServesAgain } from './support/serves-again';
 import { call, type CallOutcome, readyAfter } from './support/service-process';
 
 /**
@@ -251,24 +251,15 @@ describe('when the database goes away under load and comes back', () => {
       expect(readyAfterMs).not.toBeNull();
 
       // Writes succeed again, with their audit entries; the factor answers as before.
-      const requestId = randomUUID();
-      const read = await call(baseUrl, 'GET', `/v1/vessels/${vessels[1]!.id}`, manager);
-      const write = await call(
+      await expectServesAgain({
         baseUrl,
-        'PATCH',
-        `/v1/vessels/${vessels[1]!.id}`,
-        { ...manager, 'if-match': read.ok ? (read.etag ?? '') : '', 'x-request-id': requestId },
-        { notes: 'After the outage' },
-      );
-      expect(write.ok && write.status).toBe(200);
-      expect(await prisma.auditEntry.count({ where: { requestId } })).toBe(1);
-      const lookup = await call(
-        baseUrl,
-        'GET',
-        `/v1/factors/current?personId=${cast.people.analyst.id}&vesselId=${vessels[0]!.id}`,
+        prisma,
+        manager,
         service,
-      );
-      expect(lookup.ok && lookup.body.factorId).toBe(factor.id);
+        vesselId: vessels[1]!.id,
+        factor: { id: factor.id, personId: cast.people.analyst.id, vesselId: vessels[0]!.id },
+        notes: 'After the outage',
+      });
 
       // The background work carries on by itself: the scheduler's own timer raises a notice for an
       // item that fell due after the outage, the delivery worker sends it, and the credential listener is back.
