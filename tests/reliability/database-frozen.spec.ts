@@ -5,18 +5,16 @@ import { readdirSync, readFileSync } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { Writable } from 'node:stream';
 
 import type { NestFastifyApplication } from '@nestjs/platform-fastify';
 import { createDatabase, type Database, type DatabaseServer, freePort, openDatabaseServer } from '@registry/data';
 
-import { createApp } from '../../apps/api/src/app.factory';
 import { verifyChain } from '../../apps/api/src/audit-trail/chain-verifier';
 import { toProblem } from '../../apps/api/src/common/problem/to-problem';
 import { parseConfig } from '../../apps/api/src/config/config.schema';
-import { createLogger } from '../../apps/api/src/logging';
 import { seedCast, seedCredential, seedFactor, seedVessel } from '../support/factories';
 import { expectServesAgain } from './support/serves-again';
+import { listeningApp } from './support/listening-app';
 import { readyAfter } from './support/service-process';
 
 /**
@@ -134,15 +132,7 @@ describe('when the database freezes (accepts, never answers) under load and thaw
       onPoolError: () => undefined,
       onQueryTimeout: (err) => timeouts.push(err.message),
     });
-    const sink = new Writable({
-      write: (chunk: Buffer, _e, done) => {
-        for (const line of chunk.toString('utf8').split('\n')) if (line) errorLogs.push(JSON.parse(line) as Record<string, unknown>);
-        done();
-      },
-    });
-    app = await createApp({ config, database, logger: createLogger(config, sink) });
-    await app.listen({ port: 0, host: '127.0.0.1' });
-    baseUrl = `http://127.0.0.1:${(app.getHttpServer().address() as { port: number }).port}`;
+    ({ app, baseUrl } = await listeningApp(config, database, errorLogs));
   }, 60_000);
 
   afterAll(async () => {

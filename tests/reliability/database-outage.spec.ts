@@ -3,7 +3,6 @@ import 'reflect-metadata';
 import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { Writable } from 'node:stream';
 
 import type { NestFastifyApplication } from '@nestjs/platform-fastify';
 import {
@@ -16,13 +15,12 @@ import {
   type EmbeddedServer,
 } from '@registry/data';
 
-import { createApp } from '../../apps/api/src/app.factory';
 import { CredentialCache } from '../../apps/api/src/auth/credential-cache';
 import { parseConfig } from '../../apps/api/src/config/config.schema';
-import { createLogger } from '../../apps/api/src/logging';
 import { startReceiver, TEST_WEBHOOK_KEY } from '../delivery/delivery-support';
 import { seedCast, seedCheckWeight, seedCredential, seedFactor, seedVessel } from '../support/factories';
 import { expectServesAgain } from './support/serves-again';
+import { listeningApp } from './support/listening-app';
 import { call, type CallOutcome, readyAfter } from './support/service-process';
 
 /**
@@ -85,16 +83,7 @@ describe('when the database goes away under load and comes back', () => {
       queryTimeoutMs: config.database.queryTimeoutMs,
       onPoolError: () => undefined,
     });
-    const sink = new Writable({
-      write: (chunk: Buffer, _e, done) => {
-        for (const line of chunk.toString('utf8').split('\n')) if (line) errorLogs.push(JSON.parse(line) as Record<string, unknown>);
-        done();
-      },
-    });
-    app = await createApp({ config, database, logger: createLogger(config, sink) });
-    await app.listen({ port: 0, host: '127.0.0.1' });
-    const address = app.getHttpServer().address() as { port: number };
-    baseUrl = `http://127.0.0.1:${address.port}`;
+    ({ app, baseUrl } = await listeningApp(config, database, errorLogs));
   }, 60_000);
 
   afterAll(async () => {
